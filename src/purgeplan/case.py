@@ -1,0 +1,505 @@
+"""Case files: TOML in, validated objects out.
+
+Every physical quantity carries its unit in its key (``pressure_bar``,
+``temperature_c``, ``production_t_d``).  The glossary of unit suffixes is in
+the README.  A case may declare structural options; each combination of their
+choices is one design alternative, a patch applied to the base case.
+"""
+
+from __future__ import annotations
+
+import copy
+import difflib
+import hashlib
+import itertools
+import math
+import tomllib
+import typing
+from pathlib import Path
+from typing import Annotated, Any, Literal
+
+from pydantic import BaseModel, ConfigDict, Field, ValidationError, model_validator
+
+from .errors import CaseError
+
+Positive = Annotated[float, Field(gt=0, allow_inf_nan=False)]
+NonNegative = Annotated[float, Field(ge=0, allow_inf_nan=False)]
+Finite = Annotated[float, Field(allow_inf_nan=False)]
+OpenFraction = Annotated[float, Field(gt=0, lt=1, allow_inf_nan=False)]
+Fraction = Annotated[float, Field(ge=0, le=1, allow_inf_nan=False)]
+Name = Annotated[str, Field(min_length=1, max_length=200)]
+
+MAX_CASE_BYTES = 2_000_000
+
+
+class _Strict(BaseModel):
+    model_config = ConfigDict(extra="forbid", strict=False, frozen=True)
+
+
+class CaseInfo(_Strict):
+    name: Name = "unnamed case"
+    description: str = ""
+
+
+class ComponentSpec(_Strict):
+    """A component; every property can be overridden, otherwise ``chemicals`` supplies it."""
+
+    identifier: Name | None = None
+    molar_mass_kg_kmol: Positive | None = None
+    lower_heating_value_kj_mol: NonNegative | None = None
+    formation_enthalpy_kj_mol: Finite | None = None
+    standard_entropy_j_mol_k: Positive | None = None
+    heat_capacity_j_mol_k: Positive | None = None
+
+
+class EquilibriumSpec(_Strict):
+    constant: Literal["ammonia_gillespie_beattie", "formation_data"] = "formation_data"
+    fugacity: Literal["ideal", "dyson_simon"] = "ideal"
+    fugacity_correction_factor: Positive = 1.0
+
+
+class SizingSpec(_Strict):
+    reference_conversion: OpenFraction
+    reference_volume_m3: Positive
+    reference_feed_kmol_h: Positive
+    equilibrium_conversion: OpenFraction
+    conversion_min: OpenFraction = 0.05
+    conversion_max: OpenFraction = 0.95
+
+
+class ReactionSpec(_Strict):
+    name: Name
+    stoichiometry: dict[Name, Finite]
+    key_reactant: Name
+    per_pass: Literal["fixed", "equilibrium", "sized"] = "fixed"
+    per_pass_conversion: OpenFraction | None = None
+    approach_to_equilibrium: Annotated[float, Field(gt=0, le=1, allow_inf_nan=False)] | None = None
+    equilibrium: EquilibriumSpec | None = None
+    sizing: SizingSpec | None = None
+
+
+class ReactorSpec(_Strict):
+    temperature_c: Annotated[float, Field(gt=-273.15, lt=2000, allow_inf_nan=False)]
+    space_velocity_per_h: Positive = 10000.0
+
+
+class InletRatio(_Strict):
+    numerator: Name
+    denominator: Name
+    value: Positive
+
+
+class LoopSpec(_Strict):
+    pressure_bar: Annotated[float, Field(gt=0, lt=2000, allow_inf_nan=False)]
+    pressure_drop_bar: Positive
+    basis: Literal["production", "makeup"] = "production"
+    product: Name
+    production_t_d: Positive | None = None
+    makeup_kmol_h: Positive | None = None
+    purge_fraction: OpenFraction = 0.02
+    purge_fraction_min: OpenFraction = 1e-4
+    purge_fraction_max: OpenFraction = 0.5
+    max_inert_fraction_reactor_inlet: OpenFraction | None = None
+    max_recycle_power_kw: Positive | None = None
+    inlet_ratios: list[InletRatio] = []
+
+
+class SeparatorSpec(_Strict):
+    temperature_c: Annotated[float, Field(gt=-273.15, lt=1000, allow_inf_nan=False)]
+    liquid_fraction: dict[Name, Fraction | Literal["condensation"]]
+
+
+class SourceSpec(_Strict):
+    composition: dict[Name, Fraction]
+    price_per_kmol: NonNegative
+    supply_pressure_bar: Positive
+    temperature_c: Annotated[float, Field(gt=-273.15, lt=1000, allow_inf_nan=False)] = 40.0
+    supply_limit_kmol_h: Positive | None = None
+    enters: Literal["makeup", "reactor_feed"] = "makeup"
+
+
+class CompressionSpec(_Strict):
+    recycle_efficiency: OpenFraction = 0.75
+    makeup_efficiency: OpenFraction = 0.75
+    makeup_stages: Annotated[int, Field(ge=1, le=12)] = 3
+    recycle_inlet_temperature_c: Annotated[float, Field(gt=-273.15, lt=1000,
+                                                        allow_inf_nan=False)] = 35.0
+
+
+class CapitalItem(_Strict):
+    reference_cost: Positive
+    reference_size: Positive
+    exponent: Annotated[float, Field(gt=0, le=1.5, allow_inf_nan=False)] = 0.6
+
+
+class RecoveryUnitSpec(_Strict):
+    return_fraction: dict[Name, Fraction]
+    capital: CapitalItem
+    operating_cost_per_kmol: NonNegative = 0.0
+
+
+class PurgeSpec(_Strict):
+    destination: Literal["fuel", "flare"] = "fuel"
+    recovery: Name = "none"
+
+
+class EconomicsSpec(_Strict):
+    currency: Annotated[str, Field(min_length=1, max_length=12)] = "EUR"
+    hours_per_year: Annotated[float, Field(gt=0, le=8784, allow_inf_nan=False)] = 8000.0
+    discount_rate: Annotated[float, Field(ge=0, lt=1, allow_inf_nan=False)] = 0.08
+    life_years: Annotated[float, Field(gt=0, le=100, allow_inf_nan=False)] = 20.0
+    cost_index_ratio: Positive = 1.0
+    power_price_per_kwh: NonNegative
+    fuel_price_per_gj: NonNegative = 0.0
+    flare_cost_per_kmol: NonNegative = 0.0
+    product_price_per_t: NonNegative = 0.0
+    compressor_capital: CapitalItem
+    reactor_capital: CapitalItem
+    catalyst_price_per_m3: NonNegative = 0.0
+    catalyst_life_years: Positive = 5.0
+    sensitivity_fraction: Annotated[float, Field(gt=0, lt=1, allow_inf_nan=False)] = 0.2
+
+
+class AlternativeSpec(_Strict):
+    name: Name
+    choices: dict[Name, Name]
+
+
+class Case(_Strict):
+    """A validated case: one loop and its prices, before options are applied."""
+
+    case: CaseInfo = CaseInfo()
+    components: dict[Name, ComponentSpec]
+    reactions: list[ReactionSpec] = Field(min_length=1)
+    reactor: ReactorSpec
+    loop: LoopSpec
+    separator: SeparatorSpec
+    sources: dict[Name, SourceSpec] = Field(min_length=1)
+    makeup_sources: list[Name] | None = None
+    compression: CompressionSpec = CompressionSpec()
+    purge: PurgeSpec = PurgeSpec()
+    recovery_units: dict[Name, RecoveryUnitSpec] = {}
+    economics: EconomicsSpec
+    options: dict[Name, dict[Name, dict[str, Any]]] = {}
+    alternatives: list[AlternativeSpec] = []
+    exclude: list[dict[Name, Name]] = []
+
+    @model_validator(mode="after")
+    def _cross_checks(self):
+        check_case(self)
+        return self
+
+    @property
+    def active_sources(self) -> list[str]:
+        """Names of the sources this case buys from, in sorted order."""
+        return sorted(self.makeup_sources if self.makeup_sources is not None else self.sources)
+
+
+class _Located(ValueError):
+    """A cross-check failure that knows its key path (turned into CaseError)."""
+
+    def __init__(self, path: str, message: str):
+        self.path = path
+        super().__init__(message)
+
+
+def check_case(case: Case) -> None:
+    """Cross-field checks that a schema cannot express; raises ``_Located``."""
+    comps = case.components
+    known = sorted(comps)
+
+    def need_component(path: str, name: str) -> None:
+        if name not in comps:
+            hint = difflib.get_close_matches(name, known, n=1)
+            fix = f"; did you mean '{hint[0]}'?" if hint else f"; declared components: {known}"
+            raise _Located(path, f"unknown component '{name}'{fix}")
+
+    for i, r in enumerate(case.reactions):
+        base = f"reactions[{i}]"
+        for c, nu in r.stoichiometry.items():
+            need_component(f"{base}.stoichiometry.{c}", c)
+            if nu == 0:
+                raise _Located(f"{base}.stoichiometry.{c}", "coefficient 0: leave it out")
+        need_component(f"{base}.key_reactant", r.key_reactant)
+        if r.stoichiometry.get(r.key_reactant, 0) >= 0:
+            raise _Located(f"{base}.key_reactant",
+                           f"'{r.key_reactant}' must be consumed (negative coefficient)")
+        needs = {"fixed": "per_pass_conversion", "equilibrium": "approach_to_equilibrium",
+                 "sized": "sizing"}[r.per_pass]
+        if getattr(r, needs) is None:
+            raise _Located(f"{base}.{needs}", f"required when per_pass = '{r.per_pass}'")
+        if r.per_pass == "equilibrium" and r.equilibrium is None:
+            raise _Located(f"{base}.equilibrium", "required when per_pass = 'equilibrium'")
+        if r.sizing is not None:
+            s = r.sizing
+            if not s.reference_conversion < s.equilibrium_conversion:
+                raise _Located(f"{base}.sizing.reference_conversion",
+                               f"{s.reference_conversion} must be below equilibrium_conversion "
+                               f"{s.equilibrium_conversion}")
+            if not s.conversion_min < s.conversion_max < s.equilibrium_conversion:
+                raise _Located(f"{base}.sizing.conversion_max",
+                               "need conversion_min < conversion_max < equilibrium_conversion")
+    if sum(r.per_pass == "sized" for r in case.reactions) > 1:
+        raise _Located("reactions", "at most one reaction may have per_pass = 'sized'")
+
+    loop = case.loop
+    need_component("loop.product", loop.product)
+    if not any(r.stoichiometry.get(loop.product, 0) > 0 for r in case.reactions):
+        raise _Located("loop.product", f"'{loop.product}' is not produced by any reaction")
+    if loop.basis == "production" and loop.production_t_d is None:
+        raise _Located("loop.production_t_d", "required when basis = 'production'")
+    if loop.basis == "makeup" and loop.makeup_kmol_h is None:
+        raise _Located("loop.makeup_kmol_h", "required when basis = 'makeup'")
+    if not loop.purge_fraction_min < loop.purge_fraction_max:
+        raise _Located("loop.purge_fraction_max",
+                       f"{loop.purge_fraction_max} must exceed purge_fraction_min "
+                       f"{loop.purge_fraction_min}")
+    if loop.pressure_drop_bar >= loop.pressure_bar:
+        raise _Located("loop.pressure_drop_bar",
+                       f"{loop.pressure_drop_bar} must be below pressure_bar {loop.pressure_bar}")
+    for i, ratio in enumerate(loop.inlet_ratios):
+        need_component(f"loop.inlet_ratios[{i}].numerator", ratio.numerator)
+        need_component(f"loop.inlet_ratios[{i}].denominator", ratio.denominator)
+
+    condensing = [c for c, v in case.separator.liquid_fraction.items() if v == "condensation"]
+    for c in case.separator.liquid_fraction:
+        need_component(f"separator.liquid_fraction.{c}", c)
+    if len(condensing) > 1:
+        raise _Located("separator.liquid_fraction",
+                       f"only one component may condense, found {condensing}")
+    product_split = case.separator.liquid_fraction.get(loop.product, 0.0)
+    if product_split == 0.0:
+        raise _Located(f"separator.liquid_fraction.{loop.product}",
+                       "the product must leave with the liquid: give a fraction above 0 "
+                       "or 'condensation'")
+
+    for name, src in case.sources.items():
+        base = f"sources.{name}"
+        for c in src.composition:
+            need_component(f"{base}.composition.{c}", c)
+        total = sum(src.composition.values())
+        if abs(total - 1.0) > 1e-6:
+            raise _Located(f"{base}.composition",
+                           f"mole fractions sum to {total:.9g}; they must sum to 1 within 1e-6")
+        if src.enters == "makeup" and src.supply_pressure_bar > loop.pressure_bar:
+            raise _Located(f"{base}.supply_pressure_bar",
+                           f"{src.supply_pressure_bar} is above the loop pressure "
+                           f"{loop.pressure_bar}")
+    for i, name in enumerate(case.makeup_sources or []):
+        if name not in case.sources:
+            hint = difflib.get_close_matches(name, sorted(case.sources), n=1)
+            fix = f"; did you mean '{hint[0]}'?" if hint else ""
+            raise _Located(f"makeup_sources[{i}]", f"unknown source '{name}'{fix}")
+    active = case.active_sources
+    if not active:
+        raise _Located("makeup_sources", "at least one source is needed")
+    if not any(case.sources[s].enters == "makeup" for s in active):
+        raise _Located("makeup_sources", "at least one source must enter as make-up gas")
+
+    rec = case.purge.recovery
+    if rec != "none" and rec not in case.recovery_units:
+        raise _Located("purge.recovery",
+                       f"unknown recovery unit '{rec}'; declared: {sorted(case.recovery_units)} "
+                       "or 'none'")
+    for name, unit in case.recovery_units.items():
+        for c in unit.return_fraction:
+            need_component(f"recovery_units.{name}.return_fraction.{c}", c)
+
+    for opt, choices in case.options.items():
+        if not choices:
+            raise _Located(f"options.{opt}", "an option needs at least one choice")
+    for i, alt in enumerate(case.alternatives):
+        for opt, choice in alt.choices.items():
+            if opt not in case.options:
+                raise _Located(f"alternatives[{i}].choices.{opt}", f"unknown option '{opt}'")
+            if choice not in case.options[opt]:
+                raise _Located(f"alternatives[{i}].choices.{opt}",
+                               f"unknown choice '{choice}'; options: {sorted(case.options[opt])}")
+    for i, ex in enumerate(case.exclude):
+        for opt, choice in ex.items():
+            if opt not in case.options or choice not in case.options[opt]:
+                raise _Located(f"exclude[{i}].{opt}", f"no such option choice '{opt} = {choice}'")
+    names = [a.name for a in case.alternatives]
+    if len(set(names)) != len(names):
+        raise _Located("alternatives", "alternative names must be unique")
+
+
+# ---------------------------------------------------------------------------
+# reading and error messages
+
+
+def _fields_at(model: type, loc: tuple) -> list[str]:
+    """Field names of the (sub)model reached by a pydantic error location."""
+    current: Any = model
+    for part in loc:
+        if isinstance(current, type) and issubclass(current, BaseModel):
+            field = current.model_fields.get(part)
+            if field is None:
+                return []
+            current = field.annotation
+        else:
+            current = _unwrap(current)
+            if isinstance(current, type) and issubclass(current, BaseModel):
+                field = current.model_fields.get(part)
+                if field is None:
+                    return []
+                current = field.annotation
+        current = _unwrap(current)
+    if isinstance(current, type) and issubclass(current, BaseModel):
+        return list(current.model_fields)
+    return []
+
+
+def _unwrap(annotation: Any) -> Any:
+    """The model class inside Optional[...], list[...] or dict[str, ...] annotations."""
+    for _ in range(4):
+        args = typing.get_args(annotation)
+        if not args:
+            return annotation
+        models = [a for a in args if isinstance(a, type) and issubclass(a, BaseModel)]
+        if models:
+            return models[0]
+        inner = [a for a in args if typing.get_args(a)]
+        if not inner:
+            return annotation
+        annotation = inner[-1]
+    return annotation
+
+
+def _path(loc: tuple) -> str:
+    out = ""
+    for part in loc:
+        if isinstance(part, int):
+            out += f"[{part}]"
+        else:
+            out += ("." if out else "") + str(part)
+    return out
+
+
+def _short(value: Any) -> str:
+    text = repr(value)
+    return text if len(text) <= 60 else text[:57] + "..."
+
+
+def _case_error(exc: ValidationError, prefix: str = "") -> CaseError:
+    """The first pydantic error as a one-line CaseError with a did-you-mean hint."""
+    err = exc.errors(include_url=False)[0]
+    loc = tuple(p for p in err["loc"] if p not in ("function-after",))
+    path = prefix + _path(loc)
+    kind = err["type"]
+    if kind == "extra_forbidden":
+        allowed = _fields_at(Case, loc[:-1])
+        hint = difflib.get_close_matches(str(loc[-1]), allowed, n=1, cutoff=0.5)
+        fix = f"did you mean '{hint[0]}'?" if hint else f"allowed keys: {', '.join(allowed)}"
+        return CaseError(path, f"unknown key; {fix}")
+    if kind == "missing":
+        return CaseError(path, "missing key: this value is required")
+    if kind == "value_error" and isinstance(err.get("ctx", {}).get("error"), _Located):
+        located = err["ctx"]["error"]
+        return CaseError(prefix + located.path, str(located))
+    return CaseError(path, f"{err['msg'].lower()}, found {_short(err.get('input'))}")
+
+
+def parse_case_text(text: str, source: str = "case") -> Case:
+    """Validate the text of a TOML case file.
+
+    Raises
+    ------
+    CaseError
+        With the key path, the value found and what was expected.
+    """
+    try:
+        raw = tomllib.loads(text)
+    except tomllib.TOMLDecodeError as exc:
+        raise CaseError("", f"{source} is not valid TOML: {exc}") from None
+    return validate_case_dict(raw)
+
+
+def validate_case_dict(raw: dict, prefix: str = "") -> Case:
+    """Validate a case already parsed into plain Python data."""
+    try:
+        return Case.model_validate(raw)
+    except ValidationError as exc:
+        raise _case_error(exc, prefix) from None
+    except RecursionError:
+        raise CaseError(prefix, "the case nests too deeply") from None
+
+
+def read_case_bytes(path: Path) -> str:
+    """The text of a case file, refusing huge and non-UTF-8 files with a CaseError."""
+    try:
+        size = path.stat().st_size
+    except OSError as exc:
+        raise CaseError("", f"cannot read case file {path}: {exc.strerror}") from None
+    if size > MAX_CASE_BYTES:
+        raise CaseError("", f"case file {path} is {size} bytes; the limit is {MAX_CASE_BYTES}")
+    try:
+        data = path.read_bytes()
+        return data.decode("utf-8")
+    except UnicodeDecodeError as exc:
+        raise CaseError("", f"case file {path} is not UTF-8 text (byte {exc.start})") from None
+    except OSError as exc:
+        raise CaseError("", f"cannot read case file {path}: {exc.strerror}") from None
+
+
+def load_case(path: str | Path) -> tuple[Case, str]:
+    """Read and validate a case file; returns the case and the SHA-256 of its bytes."""
+    path = Path(path)
+    text = read_case_bytes(path)
+    digest = hashlib.sha256(text.encode("utf-8")).hexdigest()
+    try:
+        return parse_case_text(text, source=str(path)), digest
+    except CaseError:
+        raise
+
+
+# ---------------------------------------------------------------------------
+# alternatives
+
+
+def _deep_merge(base: dict, patch: dict) -> dict:
+    out = copy.deepcopy(base)
+    for key, value in patch.items():
+        if isinstance(value, dict) and isinstance(out.get(key), dict):
+            out[key] = _deep_merge(out[key], value)
+        else:
+            out[key] = copy.deepcopy(value)
+    return out
+
+
+def alternative_name(choices: dict[str, str]) -> str:
+    """Name of an alternative from its option choices, option names sorted."""
+    return ", ".join(f"{opt}={choices[opt]}" for opt in sorted(choices)) or "base case"
+
+
+def expand_alternatives(case: Case) -> list[tuple[str, dict[str, str], Case]]:
+    """Every design alternative as (name, choices, validated case), sorted by name.
+
+    With no options the base case is the only alternative.  Explicit
+    ``alternatives`` replace the full combination; ``exclude`` removes any
+    combination containing all of an entry's choices.
+    """
+    base = case.model_dump(exclude={"options", "alternatives", "exclude"}, exclude_none=True)
+    if case.alternatives:
+        wanted = [(a.name, dict(a.choices)) for a in case.alternatives]
+    else:
+        opts = sorted(case.options)
+        combos = itertools.product(*(sorted(case.options[o]) for o in opts))
+        wanted = [(None, dict(zip(opts, combo, strict=True))) for combo in combos]
+    result = []
+    for name, choices in wanted:
+        if any(all(choices.get(o) == c for o, c in ex.items()) for ex in case.exclude):
+            continue
+        raw = base
+        for opt in sorted(choices):
+            raw = _deep_merge(raw, case.options[opt][choices[opt]])
+        prefix = f"options.{{{', '.join(f'{o}.{choices[o]}' for o in sorted(choices))}}}: "
+        alt_case = validate_case_dict(raw, prefix=prefix if choices else "")
+        result.append((name or alternative_name(choices), choices, alt_case))
+    if not result:
+        raise CaseError("exclude", "every alternative is excluded; nothing is left to study")
+    return sorted(result, key=lambda item: item[0])
+
+
+def is_finite_number(value: Any) -> bool:
+    return isinstance(value, int | float) and math.isfinite(value)

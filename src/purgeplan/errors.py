@@ -1,0 +1,36 @@
+"""Exceptions that name the field at fault and the fix.
+
+The CLI maps :class:`CaseError` to exit status 2, :class:`InfeasibleError` to
+exit status 3 and :class:`SolverFailure` to exit status 4.
+"""
+
+from __future__ import annotations
+
+
+class CaseError(ValueError):
+    """A case file that cannot be read or does not validate.
+
+    Parameters
+    ----------
+    path : str
+        Key path in the case file, such as ``loop.pressure_bar``.
+    message : str
+        What was found and what was expected.
+    """
+
+    def __init__(self, path: str, message: str):
+        self.path = path
+        self.message = message
+        super().__init__(f"{path}: {message}" if path else message)
+
+
+class NoSteadyStateError(ArithmeticError):
+    """The loop has no steady state for the given design variables."""
+
+
+class InfeasibleError(RuntimeError):
+    """A valid case whose limits cannot all be met."""
+
+
+class SolverFailure(RuntimeError):
+    """The solver did not return an optimal solution for a reason of its own."""

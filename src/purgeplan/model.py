@@ -1,0 +1,126 @@
+"""The Pyomo model of one alternative: balances, reactor, compression and costs.
+
+The constraints are the equation families of :mod:`purgeplan.loop`, one Pyomo
+``Constraint`` per family, named after it (``m.mixer_balance``,
+``m.purge_split``, ...), plus the limits a case may set.  The purge fraction
+``m.purge_fraction`` and per-pass conversions ``m.conversion`` are variables;
+the reduced-space strategy of :mod:`purgeplan.solve` fixes them, which leaves a
+linear programme for HiGHS, while a global solver may take them free.
+
+Coefficients that depend on the state (recycle work from the gas's heat
+capacity ratio, catalyst volume per feed) are mutable parameters.  With
+``capital="tangent"`` each capital line enters the objective as its tangent
+at a parameter size (the solve layer moves the point of tangency to the
+solution), with ``capital="exact"`` as the capacity-scaling power law.
+"""
+
+from __future__ import annotations
+
+import pyomo.environ as pyo
+
+from . import costs
+from . import loop as lp
+from .loop import Loop, LoopVariables
+from .results import quantities
+
+
+def _label(key) -> str:
+    if isinstance(key, tuple):
+        return ".".join(str(k) for k in key)
+    return str(key)
+
+
+def add_loop_equations(m: pyo.ConcreteModel, loop: Loop, v: LoopVariables) -> None:
+    """One Constraint per equation family of the loop (see :mod:`purgeplan.loop`)."""
+    for family in lp.EQUATION_FAMILIES:
+        items = {_label(k): res for k, res in family(v, loop)}
+        if items:
+            m.add_component(family.__name__, pyo.Constraint(
+                list(items), rule=lambda _m, k, items=items: items[k] == 0))
+
+
+def add_limits(m: pyo.ConcreteModel, loop: Loop) -> None:
+    """Inert limit at the reactor inlet, recycle compressor limit, supply limits.
+
+    sum_inert M_c <= y_max sum_c M_c + r;  W_recycle <= W_max + r;  f_s <= f_s,max + r,
+    with the relaxation r (``m.limit_relaxation``) zero except while the inner
+    fixed point of the solve layer is still moving the per-pass conversion.
+    """
+    m.limit_relaxation = pyo.Param(mutable=True, initialize=0.0)
+    if loop.max_inert_fraction_reactor_inlet is not None:
+        m.inert_limit = pyo.Constraint(
+            expr=m.inert_kmol_h_reactor_inlet
+            <= loop.max_inert_fraction_reactor_inlet * m.reactor_feed_kmol_h + m.limit_relaxation)
+    if loop.max_recycle_power_kw is not None:
+        m.recycle_power_limit = pyo.Constraint(
+            expr=m.recycle_compressor_power_kw <= loop.max_recycle_power_kw + m.limit_relaxation)
+    limited = [s for s in loop.sources if s.supply_limit_kmol_h is not None]
+    if limited:
+        m.supply_limit = pyo.Constraint(
+            [s.name for s in limited],
+            rule=lambda _m, n: m.source[n] <= next(
+                s.supply_limit_kmol_h for s in limited if s.name == n) + m.limit_relaxation)
+
+
+def add_costs(m: pyo.ConcreteModel, loop: Loop, q: dict, capital: str) -> None:
+    """Cost lines as Expressions ``m.cost[key]`` and the objective ``m.tac`` [currency/year]."""
+    lines = costs.cost_lines(loop)
+    table = costs.values(costs.assumptions(loop))
+    capital_keys = [line.key for line in lines if line.kind == "capital"]
+    m.CAPITAL = pyo.Set(initialize=capital_keys)
+    m.capital_size0 = pyo.Param(m.CAPITAL, mutable=True, initialize=1.0)
+    m.capital_value0 = pyo.Param(m.CAPITAL, mutable=True, initialize=0.0)
+    m.capital_slope = pyo.Param(m.CAPITAL, mutable=True, initialize=0.0)
+
+    def tangent(line, size, _a):
+        k = line.key
+        return m.capital_value0[k] + m.capital_slope[k] * (size - m.capital_size0[k])
+
+    rule = tangent if capital == "tangent" else costs.exact_capital
+    values = costs.evaluate(lines, q, table, capital=rule)
+    m.COST = pyo.Set(initialize=list(values))
+    m.cost = pyo.Expression(m.COST, rule=lambda _m, k: values[k])
+    m.tac = pyo.Objective(expr=sum(m.cost[k] for k in m.COST), sense=pyo.minimize)
+
+
+def build_model(loop: Loop, capital: str = "tangent") -> pyo.ConcreteModel:
+    """The Pyomo model of one alternative with the design variables fixed.
+
+    Parameters
+    ----------
+    loop : Loop
+    capital : {"tangent", "exact"}
+        How capital lines enter the objective (see the module docstring).
+    """
+    m = pyo.ConcreteModel(name=loop.name)
+    pairs = [(s, c) for s in loop.streams for c in loop.components]
+    m.FLOW = pyo.Set(initialize=pairs, dimen=2)
+    m.REACTION = pyo.Set(initialize=range(len(loop.reactions)))
+    m.SOURCE = pyo.Set(initialize=[s.name for s in loop.sources])
+    m.flow = pyo.Var(m.FLOW, domain=pyo.NonNegativeReals, initialize=1.0)
+    m.extent = pyo.Var(m.REACTION, initialize=1.0)
+    m.source = pyo.Var(m.SOURCE, domain=pyo.NonNegativeReals, initialize=1.0)
+    m.purge_fraction = pyo.Var(bounds=(loop.purge_fraction_min, loop.purge_fraction_max),
+                               initialize=loop.purge_fraction)
+    m.conversion = pyo.Var(m.REACTION, bounds=(0.0, 1.0), initialize=0.2)
+    m.purge_fraction.fix(loop.purge_fraction)
+    m.conversion.fix()
+    m.recycle_work_kj_kmol = pyo.Param(mutable=True, initialize=1000.0)
+    m.volume_per_feed = pyo.Param(mutable=True, initialize=lp.volume_per_feed(
+        loop, {i: 0.5 for i in range(len(loop.reactions))}) if loop.sized_reaction is None
+        else 1.0)
+
+    v = LoopVariables(flow=m.flow, extent=m.extent, source=m.source,
+                      purge_fraction=m.purge_fraction, conversion=m.conversion)
+    add_loop_equations(m, loop, v)
+    q = quantities(v, loop, m.recycle_work_kj_kmol, m.volume_per_feed)
+    for key in ("recycle_compressor_power_kw", "makeup_compressor_power_kw", "reactor_volume_m3",
+                "reactor_feed_kmol_h", "inert_kmol_h_reactor_inlet", "disposal_heat_gj_h"):
+        m.add_component(key, pyo.Expression(expr=q[key]))
+    q.update({k: m.component(k) for k in ("recycle_compressor_power_kw",
+                                           "makeup_compressor_power_kw", "reactor_volume_m3",
+                                           "reactor_feed_kmol_h", "inert_kmol_h_reactor_inlet",
+                                           "disposal_heat_gj_h")})
+    add_limits(m, loop)
+    add_costs(m, loop, q, capital)
+    return m

@@ -1,0 +1,148 @@
+"""Steady-state results as plain data, computed the same way whoever solved the loop.
+
+Both the direct engine and the Pyomo solve hand their raw values (flows,
+extents, source flows) to :func:`make_state`, which evaluates the stated
+quantities and cost lines on numbers and recomputes the balances
+independently of the equations.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+
+from . import costs
+from . import loop as lp
+from .loop import Loop, LoopVariables
+
+
+@dataclass
+class LoopState:
+    """One steady state of one alternative, with its costs.
+
+    Flows in kmol/h, powers in kW, volume in m3, money in the case currency per year.
+    """
+
+    name: str
+    purge_fraction: float
+    conversion: dict[int, float]
+    flows: dict[str, dict[str, float]]
+    extents: list[float]
+    sources: dict[str, float]
+    quantities: dict[str, float]
+    costs: dict[str, float]
+    tac_per_year: float
+    cost_per_tonne_product: float
+    lost_reactant_memo_per_year: float
+    inert_fraction_reactor_inlet: float
+    overall_conversion: float
+    species_balance_error: float
+    element_balance_error: float
+    recycle_work_kj_kmol: float
+    volume_per_feed_m3_h_kmol: float
+    equilibrium_conversion: dict[int, float] = field(default_factory=dict)
+
+    @property
+    def per_pass_conversion(self) -> float:
+        return self.conversion[0]
+
+    @property
+    def balance_error(self) -> float:
+        return max(self.species_balance_error, self.element_balance_error)
+
+
+class _Values:
+    """Adapter: a nested dict of numbers seen as ``flow[stream, component]``."""
+
+    def __init__(self, nested):
+        self.nested = nested
+
+    def __getitem__(self, key):
+        stream, comp = key
+        return self.nested[stream][comp]
+
+
+def quantities(v: LoopVariables, loop: Loop, work_kj_kmol, volume_per_feed) -> dict:
+    """Every physical quantity a cost line or a limit refers to, by key."""
+    q = {f"source_kmol_h:{s.name}": v.source[s.name] for s in loop.sources}
+    q.update({
+        "recycle_compressor_power_kw": lp.recycle_compressor_power_kw(v, loop, work_kj_kmol),
+        "makeup_compressor_power_kw": lp.makeup_compressor_power_kw(v, loop),
+        "reactor_volume_m3": lp.reactor_volume_m3(v, loop, volume_per_feed),
+        "reactor_feed_kmol_h": lp.reactor_feed_kmol_h(v, loop),
+        "inert_kmol_h_reactor_inlet": lp.inert_kmol_h_reactor_inlet(v, loop),
+        "disposal_heat_gj_h": lp.disposal_heat_gj_h(v, loop),
+        "disposal_kmol_h": lp.disposal_kmol_h(v, loop),
+        "product_t_h": lp.product_t_h(v, loop),
+        "recovery_feed_kmol_h": lp.recovery_feed_kmol_h(v, loop),
+    })
+    return q
+
+
+def _balances(loop: Loop, flows, extents) -> tuple[float, float]:
+    """Largest relative species and element balance errors over the whole loop [-].
+
+    Recomputed from the streams alone: what enters with the feeds, plus what
+    the reactions make, minus what leaves with the liquid and the purge gas.
+    """
+    feeds = [s for s in ("makeup", "liquid_feed") if s in flows]
+    out_streams = ["liquid_product", loop.disposal_stream]
+    scale = max(sum(flows[s][c] for s in feeds for c in loop.components), 1e-300)
+    species = 0.0
+    for c in loop.components:
+        made = sum(r.stoichiometry.get(c, 0.0) * extents[i] for i, r in enumerate(loop.reactions))
+        net = (sum(flows[s][c] for s in feeds) + made
+               - sum(flows[s][c] for s in out_streams))
+        species = max(species, abs(net) / scale)
+    elements: dict[str, float] = {}
+    element_scale: dict[str, float] = {}
+    for c in loop.components:
+        net = sum(flows[s][c] for s in feeds) - sum(flows[s][c] for s in out_streams)
+        for e, n in loop.data[c].atoms:
+            elements[e] = elements.get(e, 0.0) + n * net
+            element_scale[e] = element_scale.get(e, 0.0) + n * sum(flows[s][c] for s in feeds)
+    element = max((abs(v) / max(element_scale[e], 1e-300) for e, v in elements.items()),
+                  default=0.0)
+    return species, element
+
+
+def make_state(loop: Loop, purge_fraction: float, conversion: dict[int, float],
+               flows: dict[str, dict[str, float]], extents: list[float],
+               sources: dict[str, float], work_kj_kmol: float, volume_per_feed: float,
+               equilibrium_conversion: dict[int, float] | None = None) -> LoopState:
+    """Evaluate quantities, costs and balance closure of a solved loop."""
+    v = LoopVariables(flow=_Values(flows), extent=extents, source=sources,
+                      purge_fraction=purge_fraction, conversion=conversion)
+    q = quantities(v, loop, work_kj_kmol, volume_per_feed)
+    table = costs.values(costs.assumptions(loop))
+    lines = costs.evaluate(costs.cost_lines(loop), q, table)
+    tac = float(sum(lines.values()))
+    tonnes = q["product_t_h"] * loop.prices.hours_per_year
+    feed = flows["reactor_feed"]
+    total_feed = sum(feed.values())
+    reactants = sorted({c for r in loop.reactions for c, nu in r.stoichiometry.items() if nu < 0})
+    bought = sum(sources.values())
+    spend = sum(loop.prices.source_price_per_kmol[s] * f for s, f in sources.items())
+    reactant_bought = sum(flows[s][c] for s in ("makeup", "liquid_feed") if s in flows
+                          for c in reactants)
+    lost = sum(flows[s][c] for s in ("liquid_product", loop.disposal_stream) for c in reactants)
+    price_per_reactant = spend / reactant_bought if reactant_bought > 0 else 0.0
+    key = loop.reactions[0].key_reactant
+    fed_key = sum(flows[s][key] for s in ("makeup", "liquid_feed") if s in flows)
+    consumed_key = sum(-r.stoichiometry[key] * extents[i] for i, r in enumerate(loop.reactions)
+                       if key in r.stoichiometry)
+    species, element = _balances(loop, flows, extents)
+    del bought
+    return LoopState(
+        name=loop.name, purge_fraction=float(purge_fraction),
+        conversion={i: float(x) for i, x in conversion.items()}, flows=flows,
+        extents=[float(x) for x in extents], sources=dict(sources),
+        quantities={k: float(x) for k, x in q.items()},
+        costs={k: float(x) for k, x in lines.items()}, tac_per_year=tac,
+        cost_per_tonne_product=tac / tonnes if tonnes > 0 else float("inf"),
+        lost_reactant_memo_per_year=lost * price_per_reactant * loop.prices.hours_per_year,
+        inert_fraction_reactor_inlet=(q["inert_kmol_h_reactor_inlet"] / total_feed
+                                      if total_feed > 0 else 0.0),
+        overall_conversion=consumed_key / fed_key if fed_key > 0 else 0.0,
+        species_balance_error=species, element_balance_error=element,
+        recycle_work_kj_kmol=float(work_kj_kmol), volume_per_feed_m3_h_kmol=float(volume_per_feed),
+        equilibrium_conversion=dict(equilibrium_conversion or {}))

@@ -1,0 +1,601 @@
+"""Solve strategy: the lowest-cost purge fraction of one alternative.
+
+Reduced space.  The purge fraction a (and the per-pass conversion X of a
+sized reactor) are the complicating variables.  With them fixed the model is
+a linear programme (balances, source blend with supply limits, limits,
+costs), solved by HiGHS through Pyomo's persistent interface; the state
+dependent coefficients (equilibrium conversion, recycle work, capital
+tangents) are converged by an inner fixed point with secant acceleration.
+
+Outer search.  TAC(a) is scanned on a log-spaced grid over the allowed box;
+around the best grid point the feasibility edge (where a limit starts to
+bind) is found by bisection and the minimum by bounded Brent refinement.  A
+sized reactor nests the same search over X inside each evaluation of a.  The
+result states the grid, the refinement tolerance and the number of solves.
+"""
+
+from __future__ import annotations
+
+import enum
+import logging
+import math
+import time
+from dataclasses import dataclass, field
+
+import numpy as np
+import pyomo.environ as pyo
+from pyomo.contrib.solver.common.results import TerminationCondition
+from scipy.optimize import minimize_scalar
+
+from . import costs
+from . import loop as lp
+from .engine import initial_conversions, steady_state
+from .errors import InfeasibleError, NoSteadyStateError, SolverFailure
+from .loop import Loop
+from .model import build_model
+from .results import LoopState, make_state
+
+log = logging.getLogger(__name__)
+
+
+class Status(enum.Enum):
+    OPTIMAL = "optimal"
+    INFEASIBLE = "infeasible"
+    TIME_LIMIT = "time limit"
+    FAILED = "failed"
+
+
+def map_termination(condition) -> Status:
+    """HiGHS termination (through Pyomo) onto the small set of statuses."""
+    if condition == TerminationCondition.convergenceCriteriaSatisfied:
+        return Status.OPTIMAL
+    if condition in (TerminationCondition.provenInfeasible,
+                     TerminationCondition.locallyInfeasible,
+                     TerminationCondition.infeasibleOrUnbounded):
+        return Status.INFEASIBLE
+    if condition in (TerminationCondition.maxTimeLimit, TerminationCondition.iterationLimit):
+        return Status.TIME_LIMIT
+    return Status.FAILED
+
+
+@dataclass
+class SolverInfo:
+    name: str = "highs"
+    status: str = "optimal"
+    solves: int = 0
+    seconds: float = 0.0
+    method: str = ""
+
+
+@dataclass
+class Optimum:
+    """The answer for one alternative."""
+
+    name: str
+    feasible: bool
+    status: Status
+    message: str
+    state: LoopState | None
+    binding_constraints: list[str]
+    curve: list[dict]
+    solver: SolverInfo
+    choices: dict = field(default_factory=dict)
+
+
+class LoopLP:
+    """The reduced-space LP of one loop in a persistent HiGHS instance.
+
+    Parameters
+    ----------
+    loop : Loop
+    time_limit_s : float, optional
+        Wall-clock budget for everything done with this instance [s].
+    solver_options : dict, optional
+        Passed to HiGHS (for instance ``{"time_limit": 10}``).
+    """
+
+    tolerance = 1e-10
+
+    def __init__(self, loop: Loop, time_limit_s: float | None = None,
+                 solver_options: dict | None = None):
+        from pyomo.contrib.solver.solvers.highs import Highs
+
+        self.loop = loop
+        self.model = build_model(loop)
+        self.solver = Highs()
+        self.solver.config.load_solutions = False
+        self.solver.config.raise_exception_on_nonoptimal_result = False
+        auto = self.solver.config.auto_updates
+        # Between solves only fixed-variable values and parameters change.
+        for name in ("check_for_new_or_removed_constraints", "check_for_new_or_removed_vars",
+                     "check_for_new_or_removed_params", "check_for_new_objective",
+                     "update_constraints", "update_named_expressions", "update_objective"):
+            setattr(auto, name, False)
+        self.states: dict[tuple, LoopState | None] = {}
+        self.margins: dict[tuple, float] = {}
+        self.converged: list[tuple[float, dict]] = []
+        self.solver_options = dict(solver_options or {})
+        self.solves = 0
+        self.started = time.perf_counter()
+        self.time_limit_s = time_limit_s
+        self.conversion = initial_conversions(loop)
+        self.work = None
+        self.sizes: dict[str, float] = {}
+
+    # -- one LP ------------------------------------------------------------
+    def _lp(self) -> Status:
+        if self.time_limit_s is not None and time.perf_counter() - self.started > self.time_limit_s:
+            raise SolverFailure(f"time limit of {self.time_limit_s:g} s reached")
+        options = dict(self.solver_options)
+        if self.time_limit_s is not None:
+            remaining = self.time_limit_s - (time.perf_counter() - self.started)
+            options["time_limit"] = max(remaining, 1e-3)
+        self.solver.config.solver_options = options
+        try:
+            result = self.solver.solve(self.model)
+        except Exception as exc:  # a solver library fault is reported, not raised raw
+            raise SolverFailure(f"HiGHS raised {type(exc).__name__}: {exc}") from None
+        self.solves += 1
+        status = map_termination(result.termination_condition)
+        if status is Status.OPTIMAL:
+            result.solution_loader.load_vars()
+        elif status is not Status.INFEASIBLE:
+            raise SolverFailure(f"HiGHS stopped with '{result.termination_condition.name}'"
+                                + (" (time limit)" if status is Status.TIME_LIMIT else ""))
+        return status
+
+    def _read(self):
+        m, loop = self.model, self.loop
+        flows = {s: {c: max(float(m.flow[s, c].value), 0.0) for c in loop.components}
+                 for s in loop.streams}
+        extents = [float(m.extent[i].value) for i in m.REACTION]
+        sources = {n: max(float(m.source[n].value), 0.0) for n in m.SOURCE}
+        return flows, extents, sources
+
+    def _set_capital_tangents(self, quantities: dict) -> None:
+        m = self.model
+        table = costs.values(costs.assumptions(self.loop))
+        for line in costs.cost_lines(self.loop):
+            if line.kind != "capital":
+                continue
+            size = max(quantities[line.quantity], 1e-6 * table[f"{line.capital}_reference_size"])
+            value = costs.exact_capital(line, size, table)
+            m.capital_size0[line.key] = size
+            m.capital_value0[line.key] = value
+            m.capital_slope[line.key] = table[f"{line.capital}_exponent"] * value / size
+            self.sizes[line.key] = size
+
+    # -- one evaluation at fixed design variables ----------------------------
+    @property
+    def blend_free(self) -> bool:
+        """Whether the LP has freedom left: a group with more than one source."""
+        groups = [s.enters for s in self.loop.sources]
+        return len(groups) != len(set(groups))
+
+    def _predict(self, purge_fraction: float) -> dict:
+        """Starting conversions: interpolated in log(a) between converged neighbours."""
+        x = dict(self.conversion)
+        eq = [i for i, r in enumerate(self.loop.reactions) if r.per_pass == "equilibrium"]
+        if len(self.converged) < 2 or not eq:
+            return x
+        la = math.log(purge_fraction)
+        near = sorted(self.converged, key=lambda t: abs(math.log(t[0]) - la))[:2]
+        (a0, x0), (a1, x1) = near
+        if a0 == a1:
+            return dict(x0)
+        w = (la - math.log(a0)) / (math.log(a1) - math.log(a0))
+        for i in eq:
+            x[i] = min(max(x0[i] + w * (x1[i] - x0[i]), 1e-9), 0.999999)
+        return x
+
+    def _margin(self, state: LoopState) -> float:
+        """Largest relative violation of a limit (negative when all are met) [-]."""
+        loop = self.loop
+        worst = -math.inf
+        y = loop.max_inert_fraction_reactor_inlet
+        if y is not None:
+            worst = max(worst, state.inert_fraction_reactor_inlet / y - 1.0)
+        w = loop.max_recycle_power_kw
+        if w is not None:
+            worst = max(worst, state.quantities["recycle_compressor_power_kw"] / w - 1.0)
+        for s in loop.sources:
+            if s.supply_limit_kmol_h is not None:
+                worst = max(worst, state.sources[s.name] / s.supply_limit_kmol_h - 1.0)
+        return worst
+
+    def _limits_met(self, state: LoopState) -> bool:
+        return self._margin(state) <= 1e-9
+
+    def evaluate(self, purge_fraction: float, sized_conversion: float | None = None,
+                 max_iterations: int = 60) -> LoopState | None:
+        """Converged LP state at the design variables, or None if infeasible.
+
+        While the per-pass conversion is still moving the limits are relaxed
+        (an unconverged iterate may violate them); at convergence they are
+        enforced: checked on the state when the LP has no freedom left, and
+        otherwise by solving again with them in force.
+        """
+        loop, m = self.loop, self.model
+        key = (purge_fraction, sized_conversion)
+        m.purge_fraction.fix(purge_fraction)
+        x = self._predict(purge_fraction)
+        if sized_conversion is not None:
+            x[loop.sized_reaction] = sized_conversion
+        if self.work is None:
+            self.work = lp.recycle_work_kj_kmol(loop, loop.makeup_sources[0].composition)
+        blend_free = self.blend_free
+        work_matters = blend_free or loop.max_recycle_power_kw is not None
+        relaxed = m.component("limit_relaxation") is not None
+        if relaxed:
+            m.limit_relaxation = 1e15
+        history: dict[int, list] = {}
+        for _ in range(max_iterations):
+            for i, xi in x.items():
+                m.conversion[i].fix(xi)
+            m.recycle_work_kj_kmol = self.work
+            m.volume_per_feed = lp.volume_per_feed(loop, x)
+            if self._lp() is Status.INFEASIBLE:
+                self.states[key] = None
+                return None
+            flows, extents, sources = self._read()
+            eq_x = lp.equilibrium_conversions(loop, flows["reactor_feed"])
+            vapour = flows["separator_vapour"]
+            total = sum(vapour.values())
+            new_work = lp.recycle_work_kj_kmol(loop, {c: f / total for c, f in vapour.items()})
+            change = abs(new_work - self.work) / new_work if work_matters else 0.0
+            new_x = dict(x)
+            for i, xe in eq_x.items():
+                residual = loop.reactions[i].approach_to_equilibrium * xe - x[i]
+                h = history.setdefault(i, [])
+                h.append((x[i], residual))
+                change = max(change, abs(residual))
+                if len(h) >= 2 and h[-1][1] != h[-2][1]:
+                    (x0, g0), (x1, g1) = h[-2], h[-1]
+                    new_x[i] = x1 - g1 * (x1 - x0) / (g1 - g0)
+                else:
+                    new_x[i] = x[i] + residual
+                new_x[i] = min(max(new_x[i], 1e-9), 0.999999)
+            state = None
+            if change < self.tolerance:
+                state = make_state(loop, purge_fraction, x, flows, extents, sources,
+                                   self.work if work_matters else new_work,
+                                   lp.volume_per_feed(loop, x), eq_x)
+                if blend_free:
+                    moved = max((abs(state.quantities[line.quantity] - self.sizes.get(line.key, 0))
+                                 / max(state.quantities[line.quantity], 1e-9)
+                                 for line in costs.cost_lines(loop) if line.kind == "capital"),
+                                default=0.0)
+                    if moved > 1e-9:
+                        self._set_capital_tangents(state.quantities)
+                        state = None
+            if state is not None:
+                if relaxed and not blend_free:
+                    m.limit_relaxation = 0.0
+                    self.margins[key] = self._margin(state)
+                    self.converged.append((purge_fraction, dict(x)))
+                    ok = self._limits_met(state)
+                    self.states[key] = state if ok else None
+                    return self.states[key]
+                if relaxed:
+                    m.limit_relaxation = 0.0
+                    relaxed = False
+                    continue
+                self.conversion.update({i: x[i] for i in eq_x})
+                self.converged.append((purge_fraction, dict(x)))
+                self.states[key] = state
+                return state
+            self.work = new_work
+            x = new_x
+        raise SolverFailure("the inner fixed point on per-pass conversion did not converge "
+                            f"in {max_iterations} steps at purge fraction {purge_fraction:.6g}")
+
+    def tac(self, purge_fraction: float, sized_conversion: float | None = None) -> float:
+        key = (purge_fraction, sized_conversion)
+        state = self.states[key] if key in self.states else self.evaluate(*key)
+        return math.inf if state is None else state.tac_per_year
+
+
+# ---------------------------------------------------------------------------
+# outer search
+
+
+def _edge(f, margin, feasible_x: float, infeasible_x: float, xtol_rel: float) -> float:
+    """The feasibility edge between two points, on the feasible side.
+
+    Where the limit margin is known on both sides (an LP with no freedom left)
+    the edge is a root of the margin (Brent's method); otherwise bisection.
+    """
+    from scipy.optimize import brentq
+
+    f(feasible_x)
+    f(infeasible_x)
+    m_in, m_out = margin(feasible_x), margin(infeasible_x)
+    if m_in is not None and m_out is not None and m_in < 0 < m_out:
+        def g(a):
+            f(a)
+            value = margin(a)
+            return value if value is not None else 1.0
+        x = brentq(g, feasible_x, infeasible_x, xtol=xtol_rel * min(feasible_x, infeasible_x),
+                   rtol=1e-12)
+        # step to the feasible side of the root within the tolerance
+        for _ in range(60):
+            if math.isfinite(f(x)):
+                return x
+            x = x + (feasible_x - x) * 1e-3 if abs(feasible_x - x) > 0 else feasible_x
+        return feasible_x
+    a, b = feasible_x, infeasible_x
+    while abs(b - a) > xtol_rel * min(a, b):
+        mid = 0.5 * (a + b)
+        if math.isfinite(f(mid)):
+            a = mid
+        else:
+            b = mid
+    return a
+
+
+def _scan_and_refine(f, lo: float, hi: float, points: int, xtol_rel: float, margin=None):
+    """Global minimum of f on [lo, hi]: log grid, feasibility edges, bounded Brent.
+
+    f returns inf where infeasible.  Returns (x_best, f_best, samples).
+    """
+    margin = margin or (lambda _x: None)
+    seen: dict[float, float] = {}
+
+    def fx(x):
+        x = float(x)
+        if x not in seen:
+            seen[x] = f(x)
+        return seen[x]
+
+    grid = np.geomspace(lo, hi, points)
+    vals = [fx(a) for a in grid]
+    finite = [i for i, v in enumerate(vals) if math.isfinite(v)]
+    if not finite:
+        return None, math.inf, sorted(seen.items())
+    i = min(finite, key=lambda k: vals[k])
+    left = grid[i - 1] if i > 0 else grid[i]
+    right = grid[i + 1] if i < points - 1 else grid[i]
+    if i > 0 and not math.isfinite(vals[i - 1]):
+        left = _edge(fx, margin, grid[i], grid[i - 1], xtol_rel)
+    if i < points - 1 and not math.isfinite(vals[i + 1]):
+        right = _edge(fx, margin, grid[i], grid[i + 1], xtol_rel)
+    if right > left:
+        minimize_scalar(fx, bounds=(left, right), method="bounded",
+                        options={"xatol": xtol_rel * left, "maxiter": 200})
+        fx(left)
+        fx(right)
+    best_x, best_f = min(((x, v) for x, v in seen.items() if math.isfinite(v)),
+                         key=lambda t: t[1])
+    return best_x, best_f, sorted(seen.items())
+
+
+def optimise(loop: Loop, *, scan_points: int = 25, xtol_rel: float = 1e-7,
+             curve_points: int = 21, time_limit_s: float | None = None,
+             solver_options: dict | None = None) -> Optimum:
+    """The lowest-cost purge fraction (and conversion, for a sized reactor).
+
+    Parameters
+    ----------
+    loop : Loop
+    scan_points : int
+        Log-spaced grid points over the allowed purge-fraction box.
+    xtol_rel : float
+        Relative tolerance of the refinement in the purge fraction.
+    curve_points : int
+        Points of the reported cost curve around the optimum.
+    time_limit_s : float, optional
+        Wall-clock limit for this alternative [s]; past it the alternative fails.
+
+    Returns
+    -------
+    Optimum
+        Infeasible and failed alternatives carry the reason in ``message``.
+    """
+    t0 = time.perf_counter()
+    info = SolverInfo()
+    try:
+        pre = _prechecks(loop)
+        if pre:
+            raise InfeasibleError(pre)
+        solver = LoopLP(loop, time_limit_s=time_limit_s, solver_options=solver_options)
+        k = loop.sized_reaction
+        lo, hi = loop.purge_fraction_min, loop.purge_fraction_max
+        inner: dict[float, float] = {}
+
+        if k is None:
+            def f(a):
+                return solver.tac(a)
+        else:
+            s = loop.reactions[k].sizing
+
+            def f(a):
+                x, v, _ = _scan_and_refine(lambda x: solver.tac(a, x), s["conversion_min"],
+                                           s["conversion_max"], 9, xtol_rel)
+                if x is not None:
+                    inner[a] = x
+                return v
+
+        margin = None if k is not None else (lambda a: solver.margins.get((a, None)))
+        a_best, tac_best, samples = _scan_and_refine(f, lo, hi, scan_points, xtol_rel, margin)
+        if a_best is None:
+            raise InfeasibleError(_diagnose(loop, solver))
+        x_best = inner.get(a_best) if k is not None else None
+        if k is not None and x_best is None:
+            f(a_best)
+            x_best = inner[a_best]
+        state = solver.states.get((a_best, x_best)) or solver.evaluate(a_best, x_best)
+        if state is None:
+            raise SolverFailure(f"the optimum at purge fraction {a_best:.6g} did not "
+                                "re-solve as feasible")
+        curve = _curve(loop, a_best, samples, f)
+        binding = _binding(loop, solver, state, x_best)
+        info.solves = solver.solves
+        info.seconds = time.perf_counter() - t0
+        info.method = (
+            f"reduced space: purge fraction scanned at {scan_points} log-spaced points in "
+            f"[{lo:g}, {hi:g}], feasibility edges by bisection and bounded Brent refinement "
+            f"to a relative tolerance of {xtol_rel:g} in the purge fraction"
+            + (f"; per-pass conversion searched the same way in [{s['conversion_min']:g}, "
+               f"{s['conversion_max']:g}] at each purge fraction" if k is not None else "")
+            + f"; HiGHS LP at every point ({solver.solves} solves), inner fixed point on "
+            f"per-pass conversion and recycle work to {LoopLP.tolerance:g}")
+        return Optimum(loop.name, True, Status.OPTIMAL, "optimal", state, binding, curve, info)
+    except InfeasibleError as exc:
+        info.status = Status.INFEASIBLE.value
+        info.seconds = time.perf_counter() - t0
+        return Optimum(loop.name, False, Status.INFEASIBLE, str(exc), None, [], [], info)
+    except SolverFailure as exc:
+        status = Status.TIME_LIMIT if "time limit" in str(exc) else Status.FAILED
+        info.status = status.value
+        info.seconds = time.perf_counter() - t0
+        return Optimum(loop.name, False, status, str(exc), None, [], [], info)
+
+
+def evaluate_at(loop: Loop, purge_fraction: float, conversion: float | None = None,
+                solver_options: dict | None = None) -> Optimum:
+    """Steady state and costs at a given purge fraction (the source blend optimised)."""
+    t0 = time.perf_counter()
+    info = SolverInfo(method=f"HiGHS LP at the fixed purge fraction {purge_fraction:g}")
+    try:
+        solver = LoopLP(loop, solver_options=solver_options)
+        state = solver.evaluate(purge_fraction, conversion)
+        info.solves = solver.solves
+        info.seconds = time.perf_counter() - t0
+        if state is None:
+            raise InfeasibleError(_diagnose(loop, solver, purge_fraction))
+        return Optimum(loop.name, True, Status.OPTIMAL, "evaluated", state,
+                       _binding(loop, solver, state, conversion), [], info)
+    except InfeasibleError as exc:
+        info.status = Status.INFEASIBLE.value
+        return Optimum(loop.name, False, Status.INFEASIBLE, str(exc), None, [], [], info)
+    except SolverFailure as exc:
+        info.status = Status.FAILED.value
+        return Optimum(loop.name, False, Status.FAILED, str(exc), None, [], [], info)
+
+
+def _curve(loop: Loop, a_best: float, samples, f) -> list[dict]:
+    """TAC against purge fraction from a quarter to four times the optimum.
+
+    The points the search evaluated in that range, plus half and twice the optimum.
+    """
+    lo = max(loop.purge_fraction_min, a_best / 4.0)
+    hi = min(loop.purge_fraction_max, a_best * 4.0)
+    points = {a: v for a, v in samples if lo <= a <= hi}
+    for a in (a_best / 2.0, a_best * 2.0, lo, hi):
+        if loop.purge_fraction_min <= a <= loop.purge_fraction_max and a not in points:
+            points[a] = f(a)
+    return [{"purge_fraction": float(a), "tac_per_year": float(v)}
+            for a, v in sorted(points.items()) if math.isfinite(v)]
+
+
+def _binding(loop: Loop, solver: LoopLP, state: LoopState, x_best) -> list[str]:
+    out = []
+    rel = 1e-6
+    a = state.purge_fraction
+    if a <= loop.purge_fraction_min * (1 + rel):
+        out.append("purge_fraction_min")
+    if a >= loop.purge_fraction_max * (1 - rel):
+        out.append("purge_fraction_max")
+    y = loop.max_inert_fraction_reactor_inlet
+    if y is not None and state.inert_fraction_reactor_inlet >= y * (1 - 1e-6):
+        out.append("max_inert_fraction_reactor_inlet")
+    w = loop.max_recycle_power_kw
+    if w is not None and state.quantities["recycle_compressor_power_kw"] >= w * (1 - 1e-6):
+        out.append("max_recycle_power_kw")
+    for s in loop.sources:
+        if (s.supply_limit_kmol_h is not None
+                and state.sources[s.name] >= s.supply_limit_kmol_h * (1 - 1e-6)):
+            out.append(f"supply_limit_kmol_h:{s.name}")
+    k = loop.sized_reaction
+    if k is not None and x_best is not None:
+        sz = loop.reactions[k].sizing
+        if x_best <= sz["conversion_min"] * (1 + rel):
+            out.append("conversion_min")
+        if x_best >= sz["conversion_max"] * (1 - rel):
+            out.append("conversion_max")
+    return out
+
+
+def _inert_fraction(composition: dict, loop: Loop) -> float:
+    return sum(composition[c] for c in loop.inerts)
+
+
+def _prechecks(loop: Loop) -> str:
+    """Reasons a specification cannot be met, found before any solve."""
+    y = loop.max_inert_fraction_reactor_inlet
+    if y is not None:
+        lowest = min(_inert_fraction(s.composition, loop) for s in loop.makeup_sources)
+        if y <= lowest:
+            return (f"the inert limit at the reactor inlet ({y:g}) is at or below the inert "
+                    f"fraction of the cleanest make-up gas ({lowest:.6g}): no purge can meet it")
+    return ""
+
+
+def _diagnose(loop: Loop, solver: LoopLP, purge_fraction: float | None = None) -> str:
+    """Which limit makes every purge fraction infeasible, with the figures."""
+    a = loop.purge_fraction_max if purge_fraction is None else purge_fraction
+    where = (f"at any purge fraction up to {a:g}" if purge_fraction is None
+             else f"at the purge fraction {a:g}")
+    m = solver.model
+    solver.solver.config.auto_updates.check_for_new_or_removed_constraints = True
+    named = [("inert_limit", "the inert limit at the reactor inlet"),
+             ("recycle_power_limit", "the recycle compressor power limit"),
+             ("supply_limit", "the supply limits of the sources")]
+    present = [(n, text) for n, text in named if m.component(n) is not None]
+    for n, _ in present:
+        m.component(n).deactivate()
+    try:
+        state = solver.evaluate(a)
+    finally:
+        for n, _ in present:
+            m.component(n).activate()
+    if state is None:
+        try:
+            steady_state(loop, a)
+        except NoSteadyStateError as exc:
+            return str(exc)
+        return f"the loop balances cannot be met {where}"
+    reasons = []
+    for n, text in present:
+        if n == "inert_limit" and state.inert_fraction_reactor_inlet > \
+                loop.max_inert_fraction_reactor_inlet:
+            reasons.append(f"{text} ({loop.max_inert_fraction_reactor_inlet:g}) cannot be met "
+                           f"{where}: the reactor inlet would carry "
+                           f"{state.inert_fraction_reactor_inlet:.4g}")
+        if n == "recycle_power_limit" and state.quantities["recycle_compressor_power_kw"] > \
+                loop.max_recycle_power_kw:
+            reasons.append(f"{text} ({loop.max_recycle_power_kw:g} kW) is below the minimum "
+                           f"recycle: {state.quantities['recycle_compressor_power_kw']:.4g} kW "
+                           f"is needed {where}")
+        if n == "supply_limit":
+            offered = sum(s.supply_limit_kmol_h for s in loop.sources
+                          if s.supply_limit_kmol_h is not None)
+            if all(s.supply_limit_kmol_h is not None for s in loop.makeup_sources):
+                need = sum(state.sources[s.name] for s in loop.makeup_sources)
+                if need > offered:
+                    reasons.append(f"supply below demand: the loop needs {need:.6g} kmol/h of "
+                                   f"make-up gas, the sources offer {offered:.6g} kmol/h")
+    return "; ".join(reasons) or f"the limits cannot all be met together {where}"
+
+
+def solve_exact_with(loop: Loop, solver_name: str = "scip_direct", **options):
+    """The same model with the purge fraction free and exact capital, for a global solver.
+
+    Used by the tests to check the reduced-space answer; returns (a, TAC, results).
+    The recycle work and volume coefficients are taken converged from the
+    reduced-space solution at the same alternative's optimum.
+    """
+    opt = optimise(loop)
+    if not opt.feasible:
+        raise InfeasibleError(opt.message)
+    m = build_model(loop, capital="exact")
+    m.recycle_work_kj_kmol = opt.state.recycle_work_kj_kmol
+    m.volume_per_feed = opt.state.volume_per_feed_m3_h_kmol
+    for i, x in opt.state.conversion.items():
+        m.conversion[i].fix(x)
+    m.purge_fraction.unfix()
+    solver = pyo.SolverFactory(solver_name)
+    for k, v in options.items():
+        solver.options[k] = v
+    results = solver.solve(m)
+    return float(m.purge_fraction.value), float(pyo.value(m.tac)), results, opt
