@@ -79,7 +79,7 @@ class Optimum:
     binding_constraints: list[str]
     curve: list[dict]
     solver: SolverInfo
-    choices: dict = field(default_factory=dict)
+    off_optimum: dict = field(default_factory=dict)
 
 
 class LoopLP:
@@ -114,7 +114,7 @@ class LoopLP:
         self.states: dict[tuple, LoopState | None] = {}
         self.margins: dict[tuple, float] = {}
         self.converged: list[tuple[float, dict]] = []
-        self.solver_options = dict(solver_options or {})
+        self.solver_options = {"output_flag": False, **(solver_options or {})}
         self.solves = 0
         self.started = time.perf_counter()
         self.time_limit_s = time_limit_s
@@ -370,7 +370,7 @@ def _scan_and_refine(f, lo: float, hi: float, points: int, xtol_rel: float, marg
 
 
 def optimise(loop: Loop, *, scan_points: int = 25, xtol_rel: float = 1e-7,
-             curve_points: int = 21, time_limit_s: float | None = None,
+             details: bool = True, time_limit_s: float | None = None,
              solver_options: dict | None = None) -> Optimum:
     """The lowest-cost purge fraction (and conversion, for a sized reactor).
 
@@ -381,8 +381,9 @@ def optimise(loop: Loop, *, scan_points: int = 25, xtol_rel: float = 1e-7,
         Log-spaced grid points over the allowed purge-fraction box.
     xtol_rel : float
         Relative tolerance of the refinement in the purge fraction.
-    curve_points : int
-        Points of the reported cost curve around the optimum.
+    details : bool
+        Also report the cost curve and the cost of running off the optimum
+        (sensitivity and break-even runs leave them out).
     time_limit_s : float, optional
         Wall-clock limit for this alternative [s]; past it the alternative fails.
 
@@ -427,8 +428,9 @@ def optimise(loop: Loop, *, scan_points: int = 25, xtol_rel: float = 1e-7,
         if state is None:
             raise SolverFailure(f"the optimum at purge fraction {a_best:.6g} did not "
                                 "re-solve as feasible")
-        curve = _curve(loop, a_best, samples, f)
+        curve = _curve(loop, a_best, samples, f) if details else []
         binding = _binding(loop, solver, state, x_best)
+        off = _off_optimum(loop, a_best, state.tac_per_year, f) if details else {}
         info.solves = solver.solves
         info.seconds = time.perf_counter() - t0
         info.method = (
@@ -439,7 +441,8 @@ def optimise(loop: Loop, *, scan_points: int = 25, xtol_rel: float = 1e-7,
                f"{s['conversion_max']:g}] at each purge fraction" if k is not None else "")
             + f"; HiGHS LP at every point ({solver.solves} solves), inner fixed point on "
             f"per-pass conversion and recycle work to {LoopLP.tolerance:g}")
-        return Optimum(loop.name, True, Status.OPTIMAL, "optimal", state, binding, curve, info)
+        return Optimum(loop.name, True, Status.OPTIMAL, "optimal", state, binding, curve, info,
+                       off)
     except InfeasibleError as exc:
         info.status = Status.INFEASIBLE.value
         info.seconds = time.perf_counter() - t0
@@ -486,6 +489,32 @@ def _curve(loop: Loop, a_best: float, samples, f) -> list[dict]:
             points[a] = f(a)
     return [{"purge_fraction": float(a), "tac_per_year": float(v)}
             for a, v in sorted(points.items()) if math.isfinite(v)]
+
+
+def _off_optimum(loop: Loop, a_best: float, tac_best: float, f) -> dict:
+    """Cost of running off the optimum: TAC at half and twice a*, and the 1 % band."""
+    from scipy.optimize import brentq
+
+    lo, hi = loop.purge_fraction_min, loop.purge_fraction_max
+    out = {"tac_half_purge_per_year": None, "tac_double_purge_per_year": None}
+    if a_best / 2 >= lo:
+        out["tac_half_purge_per_year"] = f(a_best / 2)
+    if a_best * 2 <= hi:
+        out["tac_double_purge_per_year"] = f(a_best * 2)
+    target = 1.01 * tac_best
+
+    def g(a):
+        v = f(a)
+        return (v if math.isfinite(v) else 10 * abs(target)) - target
+
+    band = []
+    for edge in (lo, hi):
+        if g(edge) <= 0:
+            band.append(edge)
+        else:
+            band.append(brentq(g, min(edge, a_best), max(edge, a_best), rtol=1e-4))
+    out["band_1pct_purge_fraction"] = band
+    return out
 
 
 def _binding(loop: Loop, solver: LoopLP, state: LoopState, x_best) -> list[str]:

@@ -1,0 +1,1 @@
+"""Output: workbook, JSON and plots, written atomically."""

@@ -1,0 +1,80 @@
+"""JSON results: a stable contract for scripting.
+
+Top level: ``tool_version``, ``case_sha256``, ``alternatives`` (a list; see
+:func:`alternative_record`).  Flows in kmol/h, money in the case currency
+per year.  Non-finite numbers are written as null.
+"""
+
+from __future__ import annotations
+
+import json
+import math
+from pathlib import Path
+
+from .. import __version__
+from ..loop import Loop
+from ..solve import Optimum
+from .atomic import write_atomically
+
+
+def _clean(x):
+    if isinstance(x, float):
+        return x if math.isfinite(x) else None
+    if isinstance(x, dict):
+        return {str(k): _clean(v) for k, v in x.items()}
+    if isinstance(x, list | tuple):
+        return [_clean(v) for v in x]
+    return x
+
+
+def alternative_record(name: str, loop: Loop, opt: Optimum, choices: dict | None = None,
+                       rank: int | None = None) -> dict:
+    """One alternative's result as plain JSON-ready data."""
+    rec = {"name": name, "choices": dict(choices or {}), "rank": rank,
+           "feasible": opt.feasible, "status": opt.status.value, "message": opt.message,
+           "solver": {"name": opt.solver.name, "status": opt.solver.status,
+                      "solves": opt.solver.solves, "seconds": opt.solver.seconds,
+                      "method": opt.solver.method}}
+    s = opt.state
+    if s is None:
+        rec.update({k: None for k in ("purge_fraction", "inert_fraction_reactor_inlet",
+                                      "per_pass_conversion", "overall_conversion",
+                                      "tac_per_year", "cost_per_tonne_product")})
+        rec.update(costs={}, reactions=[], streams={}, binding_constraints=[], curve=[])
+        return _clean(rec)
+    rec.update({
+        "purge_fraction": s.purge_fraction,
+        "inert_fraction_reactor_inlet": s.inert_fraction_reactor_inlet,
+        "per_pass_conversion": s.per_pass_conversion,
+        "overall_conversion": s.overall_conversion,
+        "tac_per_year": s.tac_per_year,
+        "cost_per_tonne_product": s.cost_per_tonne_product,
+        "currency": loop.prices.currency,
+        "costs": dict(s.costs),
+        "lost_reactant_memo_per_year": s.lost_reactant_memo_per_year,
+        "reactions": [{"name": r.name, "stoichiometry": dict(r.stoichiometry),
+                       "key_reactant": r.key_reactant,
+                       "per_pass_conversion": s.conversion[i],
+                       "equilibrium_conversion": s.equilibrium_conversion.get(i),
+                       "extent_kmol_h": s.extents[i]} for i, r in enumerate(loop.reactions)],
+        "streams": s.flows,
+        "quantities": dict(s.quantities),
+        "balance_error": s.balance_error,
+        "binding_constraints": list(opt.binding_constraints),
+        "curve": list(opt.curve),
+        "off_optimum": dict(opt.off_optimum),
+    })
+    return _clean(rec)
+
+
+def document(case_sha256: str, records: list[dict], **extra) -> dict:
+    """The top-level JSON document."""
+    return _clean({"tool_version": __version__, "case_sha256": case_sha256,
+                   "alternatives": records, **extra})
+
+
+def write_json(path: str | Path, doc: dict) -> Path:
+    """Write a JSON document atomically."""
+    text = json.dumps(doc, indent=2, sort_keys=False, allow_nan=False)
+    return write_atomically(path, lambda tmp: Path(tmp).write_text(text + "\n",
+                                                                   encoding="utf-8"))

@@ -1,0 +1,72 @@
+"""PNG plots: cost curves of all alternatives and the sensitivity swings."""
+
+from __future__ import annotations
+
+import math
+from pathlib import Path
+
+from .atomic import write_atomically
+
+
+def _pyplot():
+    import matplotlib
+
+    matplotlib.use("Agg")
+    import matplotlib.pyplot as plt
+
+    return plt
+
+
+def plot_cost_curves(path: str | Path, study) -> Path:
+    """TAC against purge fraction for every feasible alternative, optima marked."""
+    plt = _pyplot()
+    fig, ax = plt.subplots(figsize=(8, 5), dpi=120)
+    for alt in study.ranked:
+        curve = alt.optimum.curve
+        if not curve:
+            continue
+        x = [p["purge_fraction"] for p in curve]
+        y = [p["tac_per_year"] / 1e6 for p in curve]
+        (line,) = ax.plot(x, y, label=f"{alt.rank}. {alt.name}")
+        s = alt.optimum.state
+        ax.plot([s.purge_fraction], [s.tac_per_year / 1e6], "o", color=line.get_color())
+    ax.set_xscale("log")
+    ax.set_xlabel("Purge fraction of separator vapour [-]")
+    ax.set_ylabel(f"Total annualised cost [million {study.currency}/year]")
+    ax.set_title("Cost curves (dots: optimum of each alternative)")
+    ax.grid(True, which="both", alpha=0.3)
+    ax.legend(fontsize=7, loc="best")
+    fig.tight_layout()
+    out = write_atomically(Path(path), lambda tmp: fig.savefig(tmp, format="png"))
+    plt.close(fig)
+    return out
+
+
+def plot_sensitivity(path: str | Path, study) -> Path:
+    """Tornado of TAC swings of the best alternative for each lever."""
+    plt = _pyplot()
+    best = study.best
+    rows = []
+    for row in study.sensitivity:
+        t = row["tac"].get(best.name) if best else None
+        if not t:
+            continue
+        low = (t["low"] - t["base"]) / 1e6 if t["low"] is not None else math.nan
+        high = (t["high"] - t["base"]) / 1e6 if t["high"] is not None else math.nan
+        rows.append((row["label"], low, high))
+    rows.sort(key=lambda r: max(abs(r[1]), abs(r[2])) if not math.isnan(r[1]) else 0)
+    fig, ax = plt.subplots(figsize=(8, 5), dpi=120)
+    y = range(len(rows))
+    ax.barh(y, [r[1] for r in rows], color="#4477aa",
+            label=f"-{100 * study.sensitivity_fraction:.0f} %")
+    ax.barh(y, [r[2] for r in rows], color="#cc6677",
+            label=f"+{100 * study.sensitivity_fraction:.0f} %")
+    ax.set_yticks(list(y), [r[0] for r in rows], fontsize=8)
+    ax.axvline(0, color="black", lw=0.8)
+    ax.set_xlabel(f"Change in TAC of the best alternative [million {study.currency}/year]")
+    ax.set_title(f"Sensitivity: {best.name if best else ''}", fontsize=9)
+    ax.legend(fontsize=8)
+    fig.tight_layout()
+    out = write_atomically(Path(path), lambda tmp: fig.savefig(tmp, format="png"))
+    plt.close(fig)
+    return out
