@@ -217,7 +217,8 @@ def steady_state(loop: Loop, purge_fraction: float | None = None,
         eq_x = lp.equilibrium_conversions(loop, flows["reactor_feed"])
         new_x = dict(x)
         for i, xe in eq_x.items():
-            new_x[i] = loop.reactions[i].approach_to_equilibrium * xe
+            if loop.reactions[i].per_pass == "equilibrium":
+                new_x[i] = loop.reactions[i].approach_to_equilibrium * xe
         change = max([abs(new_x[i] - x[i]) for i in x] + [
             abs(new_work - work) / new_work if work is not None else 1.0])
         x, work = new_x, new_work
@@ -228,6 +229,12 @@ def steady_state(loop: Loop, purge_fraction: float | None = None,
                                  f"{max_iterations} fixed-point steps")
     z = eng.solve(a, [x[i] for i in range(len(loop.reactions))], shares)
     flows, extents, sources = eng.unpack(z)
+    above = [i for i, xe in eq_x.items() if x[i] > xe]
+    if above:
+        r = loop.reactions[above[0]]
+        raise NoSteadyStateError(
+            f"the per-pass conversion {x[above[0]]:.4g} of '{r.name}' is above its equilibrium "
+            f"conversion {eq_x[above[0]]:.4g} at the reactor inlet")
     negative = [(s, c) for s, fl in flows.items() for c, f in fl.items()
                 if f < -1e-9 * max(1.0, sum(flows["reactor_feed"].values()))]
     if negative:

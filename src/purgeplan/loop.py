@@ -552,12 +552,15 @@ def ln_k_pressure(loop: Loop, r: Reaction) -> float:
 
 
 def equilibrium_conversions(loop: Loop, inlet_kmol_h: Mapping[str, float]) -> dict[int, float]:
-    """Equilibrium conversion of each equilibrium reaction's key reactant at the inlet [-]."""
+    """Equilibrium conversion of the key reactant of each reaction with equilibrium data [-].
+
+    Reactions are solved simultaneously at the reactor inlet composition.
+    """
     import numpy as np
 
     from .physics.equilibrium import equilibrium_extents_kmol_h
 
-    idx = [i for i, r in enumerate(loop.reactions) if r.per_pass == "equilibrium"]
+    idx = [i for i, r in enumerate(loop.reactions) if r.equilibrium_constant is not None]
     if not idx:
         return {}
     comps = loop.components

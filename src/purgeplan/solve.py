@@ -113,6 +113,7 @@ class LoopLP:
             setattr(auto, name, False)
         self.states: dict[tuple, LoopState | None] = {}
         self.margins: dict[tuple, float] = {}
+        self.reasons: dict[tuple, str] = {}
         self.converged: list[tuple[float, dict]] = []
         self.solver_options = {"output_flag": False, **(solver_options or {})}
         self.solves = 0
@@ -207,7 +208,7 @@ class LoopLP:
         return self._margin(state) <= 1e-9
 
     def evaluate(self, purge_fraction: float, sized_conversion: float | None = None,
-                 max_iterations: int = 60) -> LoopState | None:
+                 max_iterations: int = 60, enforce_limits: bool = True) -> LoopState | None:
         """Converged LP state at the design variables, or None if infeasible.
 
         While the per-pass conversion is still moving the limits are relaxed
@@ -244,7 +245,18 @@ class LoopLP:
             new_work = lp.recycle_work_kj_kmol(loop, {c: f / total for c, f in vapour.items()})
             change = abs(new_work - self.work) / new_work if work_matters else 0.0
             new_x = dict(x)
+            above = [i for i, xe in eq_x.items() if loop.reactions[i].per_pass != "equilibrium"
+                     and x[i] > xe]
+            if above:
+                self.states[key] = None
+                self.reasons[key] = (
+                    f"the per-pass conversion {x[above[0]]:.4g} of "
+                    f"'{loop.reactions[above[0]].name}' is above its equilibrium conversion "
+                    f"{eq_x[above[0]]:.4g} at the reactor inlet")
+                return None
             for i, xe in eq_x.items():
+                if loop.reactions[i].per_pass != "equilibrium":
+                    continue
                 residual = loop.reactions[i].approach_to_equilibrium * xe - x[i]
                 h = history.setdefault(i, [])
                 h.append((x[i], residual))
@@ -269,6 +281,8 @@ class LoopLP:
                         self._set_capital_tangents(state.quantities)
                         state = None
             if state is not None:
+                if not enforce_limits:
+                    return state
                 if relaxed and not blend_free:
                     m.limit_relaxation = 0.0
                     self.margins[key] = self._margin(state)
@@ -565,20 +579,14 @@ def _diagnose(loop: Loop, solver: LoopLP, purge_fraction: float | None = None) -
     a = loop.purge_fraction_max if purge_fraction is None else purge_fraction
     where = (f"at any purge fraction up to {a:g}" if purge_fraction is None
              else f"at the purge fraction {a:g}")
-    m = solver.model
-    solver.solver.config.auto_updates.check_for_new_or_removed_constraints = True
     named = [("inert_limit", "the inert limit at the reactor inlet"),
              ("recycle_power_limit", "the recycle compressor power limit"),
              ("supply_limit", "the supply limits of the sources")]
-    present = [(n, text) for n, text in named if m.component(n) is not None]
-    for n, _ in present:
-        m.component(n).deactivate()
-    try:
-        state = solver.evaluate(a)
-    finally:
-        for n, _ in present:
-            m.component(n).activate()
+    present = [(n, text) for n, text in named if solver.model.component(n) is not None]
+    state = solver.evaluate(a, enforce_limits=False)
     if state is None:
+        if solver.reasons:
+            return next(iter(solver.reasons.values()))
         try:
             steady_state(loop, a)
         except NoSteadyStateError as exc:
