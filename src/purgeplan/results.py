@@ -100,8 +100,10 @@ def _balances(loop: Loop, flows, extents) -> tuple[float, float]:
         for e, n in loop.data[c].atoms:
             elements[e] = elements.get(e, 0.0) + n * net
             element_scale[e] = element_scale.get(e, 0.0) + n * sum(flows[s][c] for s in feeds)
-    element = max((abs(v) / max(element_scale[e], 1e-300) for e, v in elements.items()),
-                  default=0.0)
+    # an element the feeds do not carry is measured against all atoms fed
+    all_atoms = max(sum(element_scale.values()), 1e-300)
+    element = max((abs(v) / (element_scale[e] if element_scale[e] > 0 else all_atoms)
+                   for e, v in elements.items()), default=0.0)
     return species, element
 
 
