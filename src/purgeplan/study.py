@@ -163,8 +163,11 @@ def _price(loop: Loop, factor: float, **fields) -> Loop:
 
 def _capital(loop: Loop, factor: float) -> Loop:
     p = loop.prices
-    scale = (lambda c: None if c is None else
-             dataclasses.replace(c, reference_cost=c.reference_cost * factor))
+
+    def scale(c):
+        return None if c is None else dataclasses.replace(c, reference_cost=c.reference_cost
+                                                          * factor)
+
     return dataclasses.replace(loop, prices=dataclasses.replace(
         p, compressor_capital=scale(p.compressor_capital),
         reactor_capital=scale(p.reactor_capital), recovery_capital=scale(p.recovery_capital)))

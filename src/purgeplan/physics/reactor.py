@@ -29,8 +29,8 @@ def first_order_reversible_pfr_ktau(conversion: float, equilibrium_conversion: f
         Equilibrium conversion X_e [-] at the reactor inlet composition.
     """
     if not 0.0 <= conversion < equilibrium_conversion:
-        raise ValueError(
-            f"conversion {conversion:.6g} must lie in [0, equilibrium {equilibrium_conversion:.6g})")
+        raise ValueError(f"conversion {conversion:.6g} must lie in "
+                         f"[0, equilibrium {equilibrium_conversion:.6g})")
     return equilibrium_conversion * math.log(equilibrium_conversion /
                                              (equilibrium_conversion - conversion))
 
