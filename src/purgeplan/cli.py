@@ -72,8 +72,8 @@ def _parser() -> argparse.ArgumentParser:
                    help="workbook to write [default: purgeplan_study.xlsx]")
     s.add_argument("--json", type=Path, help="write results as JSON here")
     s.add_argument("--plots", type=Path, help="folder for PNG plots")
-    s.add_argument("--jobs", type=int, default=0,
-                   help="worker processes; 1 runs in-process [default: one per core]")
+    s.add_argument("--jobs", type=int, default=1,
+                   help="worker processes; 1 runs in-process, 0 one per core [default: 1]")
     s.add_argument("--time-limit", type=float, help="wall-clock limit per alternative [s]")
     s.add_argument("--quiet", action="store_true", help="no progress bar")
     return p

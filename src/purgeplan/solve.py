@@ -16,6 +16,7 @@ result states the grid, the refinement tolerance and the number of solves.
 
 from __future__ import annotations
 
+import dataclasses
 import enum
 import logging
 import math
@@ -82,6 +83,13 @@ class Optimum:
     off_optimum: dict = field(default_factory=dict)
 
 
+def _physics(loop: Loop) -> Loop:
+    """The loop with prices, efficiencies and names blanked: what fixes the flows."""
+    return dataclasses.replace(
+        loop, name="", prices=None, recycle_efficiency=0.0, makeup_efficiency=0.0,
+        sources=tuple(dataclasses.replace(s, price_per_kmol=0.0) for s in loop.sources))
+
+
 class LoopLP:
     """The reduced-space LP of one loop in a persistent HiGHS instance.
 
@@ -114,6 +122,7 @@ class LoopLP:
         self.states: dict[tuple, LoopState | None] = {}
         self.margins: dict[tuple, float] = {}
         self.reasons: dict[tuple, str] = {}
+        self.unlimited: dict[tuple, LoopState] = {}
         self.converged: list[tuple[float, dict]] = []
         self.solver_options = {"output_flag": False, **(solver_options or {})}
         self.solves = 0
@@ -207,6 +216,36 @@ class LoopLP:
     def _limits_met(self, state: LoopState) -> bool:
         return self._margin(state) <= 1e-9
 
+    def _keep_square(self, key: tuple, state: LoopState) -> None:
+        """Record a converged state of an LP with no freedom left; limits checked on it."""
+        self.unlimited[key] = state
+        self.margins[key] = self._margin(state)
+        self.states[key] = state if self.margins[key] <= 1e-9 else None
+
+    def can_reprice(self, loop: Loop) -> bool:
+        """Whether ``loop`` differs from this one only in prices and efficiencies.
+
+        Then, with no freedom left in the LP, every converged flow stays valid
+        and only the costs (and the limit margins) need evaluating again.
+        """
+        return not self.blend_free and _physics(loop) == _physics(self.loop)
+
+    def reprice(self, loop: Loop, time_limit_s: float | None = None) -> None:
+        """Take the prices of ``loop``, re-costing every converged state (see can_reprice)."""
+        if not self.can_reprice(loop):
+            raise ValueError("reprice needs the same loop physics and an LP with no freedom")
+        self.loop = loop
+        self.started = time.perf_counter()
+        self.time_limit_s = time_limit_s
+        self.states = {}
+        for key, st in list(self.unlimited.items()):
+            self._keep_square(key, make_state(
+                loop, st.purge_fraction, st.conversion, st.flows, st.extents, st.sources,
+                st.recycle_work_kj_kmol, st.volume_per_feed_m3_h_kmol,
+                st.equilibrium_conversion))
+        for key in self.reasons:
+            self.states[key] = None
+
     def evaluate(self, purge_fraction: float, sized_conversion: float | None = None,
                  max_iterations: int = 60, enforce_limits: bool = True) -> LoopState | None:
         """Converged LP state at the design variables, or None if infeasible.
@@ -284,11 +323,8 @@ class LoopLP:
                 if not enforce_limits:
                     return state
                 if relaxed and not blend_free:
-                    m.limit_relaxation = 0.0
-                    self.margins[key] = self._margin(state)
                     self.converged.append((purge_fraction, dict(x)))
-                    ok = self._limits_met(state)
-                    self.states[key] = state if ok else None
+                    self._keep_square(key, state)
                     return self.states[key]
                 if relaxed:
                     m.limit_relaxation = 0.0
@@ -385,7 +421,7 @@ def _scan_and_refine(f, lo: float, hi: float, points: int, xtol_rel: float, marg
 
 def optimise(loop: Loop, *, scan_points: int = 25, xtol_rel: float = 1e-7,
              details: bool = True, time_limit_s: float | None = None,
-             solver_options: dict | None = None) -> Optimum:
+             solver_options: dict | None = None, reuse: LoopLP | None = None) -> Optimum:
     """The lowest-cost purge fraction (and conversion, for a sized reactor).
 
     Parameters
@@ -400,6 +436,9 @@ def optimise(loop: Loop, *, scan_points: int = 25, xtol_rel: float = 1e-7,
         (sensitivity and break-even runs leave them out).
     time_limit_s : float, optional
         Wall-clock limit for this alternative [s]; past it the alternative fails.
+    reuse : LoopLP, optional
+        A solver of the same loop at other prices: its converged states are
+        re-costed instead of solved again where :meth:`LoopLP.can_reprice`.
 
     Returns
     -------
@@ -412,7 +451,12 @@ def optimise(loop: Loop, *, scan_points: int = 25, xtol_rel: float = 1e-7,
         pre = _prechecks(loop)
         if pre:
             raise InfeasibleError(pre)
-        solver = LoopLP(loop, time_limit_s=time_limit_s, solver_options=solver_options)
+        if reuse is not None and reuse.can_reprice(loop):
+            reuse.reprice(loop, time_limit_s)
+            solver = reuse
+        else:
+            solver = LoopLP(loop, time_limit_s=time_limit_s, solver_options=solver_options)
+        solves_before = solver.solves
         k = loop.sized_reaction
         lo, hi = loop.purge_fraction_min, loop.purge_fraction_max
         inner: dict[float, float] = {}
@@ -445,7 +489,7 @@ def optimise(loop: Loop, *, scan_points: int = 25, xtol_rel: float = 1e-7,
         curve = _curve(loop, a_best, samples, f) if details else []
         binding = _binding(loop, solver, state, x_best)
         off = _off_optimum(loop, a_best, state.tac_per_year, f) if details else {}
-        info.solves = solver.solves
+        info.solves = solver.solves - solves_before
         info.seconds = time.perf_counter() - t0
         info.method = (
             f"reduced space: purge fraction scanned at {scan_points} log-spaced points in "
@@ -453,7 +497,7 @@ def optimise(loop: Loop, *, scan_points: int = 25, xtol_rel: float = 1e-7,
             f"to a relative tolerance of {xtol_rel:g} in the purge fraction"
             + (f"; per-pass conversion searched the same way in [{s['conversion_min']:g}, "
                f"{s['conversion_max']:g}] at each purge fraction" if k is not None else "")
-            + f"; HiGHS LP at every point ({solver.solves} solves), inner fixed point on "
+            + f"; HiGHS LP at every point ({info.solves} solves), inner fixed point on "
             f"per-pass conversion and recycle work to {LoopLP.tolerance:g}")
         return Optimum(loop.name, True, Status.OPTIMAL, "optimal", state, binding, curve, info,
                        off)

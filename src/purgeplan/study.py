@@ -21,7 +21,7 @@ from scipy.optimize import brentq
 from . import __version__
 from .case import Case, expand_alternatives
 from .loop import Loop, build_loop
-from .solve import Optimum, optimise
+from .solve import LoopLP, Optimum, optimise
 
 log = logging.getLogger(__name__)
 
@@ -70,11 +70,24 @@ class Task:
     loop: Loop
     time_limit_s: float | None = None
     details: bool = True
+    variants: tuple = ()
 
 
-def run_task(task: Task) -> tuple[tuple, Optimum]:
-    """Optimise one alternative under one set of prices (pure; safe in a worker process)."""
-    return task.key, optimise(task.loop, time_limit_s=task.time_limit_s, details=task.details)
+def run_task(task: Task) -> tuple[tuple, object]:
+    """Optimise one alternative (pure; safe in a worker process).
+
+    With ``variants`` (pairs of key and the same loop at other prices or
+    assumptions) the task returns a dict of their optima instead; variants
+    that change only prices reuse the converged flows of one solver.
+    """
+    if not task.variants:
+        return task.key, optimise(task.loop, time_limit_s=task.time_limit_s,
+                                  details=task.details)
+    solver = LoopLP(task.loop)
+    optimise(task.loop, details=False, reuse=solver)
+    return task.key, {key: optimise(loop, details=False, reuse=solver,
+                                    time_limit_s=task.time_limit_s)
+                      for key, loop in task.variants}
 
 
 def run_tasks(tasks: list[Task], jobs: int = 1, client=None,
@@ -90,7 +103,7 @@ def run_tasks(tasks: list[Task], jobs: int = 1, client=None,
     progress : callable, optional
         Called with the number of tasks finished since the last call.
     """
-    results: dict[tuple, Optimum] = {}
+    results: dict[tuple, object] = {}
     if client is not None:
         from dask.distributed import as_completed
 
@@ -247,9 +260,10 @@ def break_even(alternatives: list[Alternative]) -> list[dict]:
         if g == base:
             continue
         alt = best[g]
+        solver = LoopLP(alt.loop)
 
-        def gap(price, alt=alt, g=g):
-            opt = optimise(with_source_price(alt.loop, g, price), details=False)
+        def gap(price, alt=alt, g=g, solver=solver):
+            opt = optimise(with_source_price(alt.loop, g, price), details=False, reuse=solver)
             if not opt.feasible:
                 raise RuntimeError(opt.message)
             return opt.state.tac_per_year - target
@@ -304,10 +318,14 @@ def run_study(case: Case, case_sha256: str, *, jobs: int = 1, client=None,
 
     frac = case.economics.sensitivity_fraction
     top = [a for a in ordered if a.rank is not None][:sensitivity_alternatives]
-    sens_tasks = [Task((lever, side, a.name), fn(a.loop, 1.0 + sign * frac), time_limit_s, False)
-                  for lever, (_, fn) in LEVERS.items()
-                  for side, sign in (("low", -1.0), ("high", 1.0)) for a in top]
-    sens = run_tasks(sens_tasks, jobs, client, tick("sensitivity", len(sens_tasks)))
+    sens_tasks = [Task(("sensitivity", a.name), a.loop, time_limit_s, False, tuple(
+        ((lever, side, a.name), fn(a.loop, 1.0 + sign * frac))
+        for lever, (_, fn) in LEVERS.items() for side, sign in (("low", -1.0), ("high", 1.0))))
+        for a in top]
+    sens = {}
+    for part in run_tasks(sens_tasks, jobs, client,
+                          tick("sensitivity", len(sens_tasks))).values():
+        sens.update(part)
     sensitivity = []
     for lever, (label, _) in LEVERS.items():
         row = {"lever": lever, "label": label, "low_factor": 1.0 - frac,
