@@ -9,6 +9,12 @@ from collections.abc import Callable
 from pathlib import Path
 
 
+def _umask() -> int:
+    mask = os.umask(0)
+    os.umask(mask)
+    return mask
+
+
 def write_atomically(path: str | Path, write: Callable[[Path], None]) -> Path:
     """Call ``write(tmp_path)`` and move the result onto ``path`` only when complete.
 
@@ -23,6 +29,10 @@ def write_atomically(path: str | Path, write: Callable[[Path], None]) -> Path:
     tmp = Path(tmp_name)
     try:
         write(tmp)
+        # mkstemp makes the file private; give it the mode a plain new file would have
+        # (or keep the mode of the file it replaces)
+        mode = path.stat().st_mode & 0o777 if path.exists() else 0o666 & ~_umask()
+        os.chmod(tmp, mode)
         with open(tmp, "rb") as handle:
             os.fsync(handle.fileno())
         os.replace(tmp, path)

@@ -130,6 +130,12 @@ def write_workbook(path: str | Path, study: StudyResult) -> Path:
     -------
     Path
         The path written.
+
+    Raises
+    ------
+    OSError
+        If the folder is missing or the file cannot be written; an existing
+        workbook at ``path`` is then left as it was and no temporary file remains.
     """
     path = Path(path)
     wb = build_workbook(study)

@@ -1,0 +1,340 @@
+"""Tests of the study workbook (purgeplan.output.workbook).
+
+Reference for every number: the tool's own cost model.  The cost build-up
+must re-price exactly as :func:`purgeplan.costs.evaluate` does, so the
+formulas are evaluated by an independent spreadsheet program (LibreOffice
+Calc, headless, with a fresh user profile) and the results read back with
+openpyxl (``data_only=True``) are compared with the engine to 1e-9 relative.
+
+The study is a reduced copy of cases/ammonia_demo.toml: three feasible
+alternatives and one infeasible twin (an inert limit below the inert
+fraction of the make-up gas), with names that begin with ``=``, ``+``,
+``@`` and ``-`` so that formula injection is exercised, and one alternative
+with its own power price so that an alternative-specific assumption cell is
+exercised.
+"""
+
+from __future__ import annotations
+
+import hashlib
+import os
+import re
+import shutil
+import subprocess
+from pathlib import Path
+
+import openpyxl
+import pytest
+
+from purgeplan import costs
+from purgeplan.case import parse_case_text
+from purgeplan.output import workbook
+from purgeplan.output.workbook import build_workbook, write_workbook
+from purgeplan.study import run_study
+
+DEMO = Path(__file__).resolve().parents[1] / "cases" / "ammonia_demo.toml"
+SOFFICE = shutil.which("soffice") or shutil.which("libreoffice")
+needs_soffice = pytest.mark.skipif(SOFFICE is None, reason="LibreOffice (soffice) not installed")
+
+CASE_NAME = "=1+1 Northfield (reduced test copy)"
+NAMES = {
+    "fuel": "=2+3",
+    "dear": "+purified, flare, dear power",
+    "membrane": "@standard, membrane",
+    "tight": "-1+2 tight inert limit",
+}
+EXTRA = f"""
+[options.power.dear]
+economics = {{ power_price_per_kwh = 0.09 }}
+[options.inert_limit.tight]
+loop = {{ max_inert_fraction_reactor_inlet = 0.001 }}
+
+[[alternatives]]
+name = "{NAMES['fuel']}"
+choices = {{ makeup_grade = "standard", purge_destination = "fuel", recovery = "none" }}
+[[alternatives]]
+name = "{NAMES['dear']}"
+choices = {{ makeup_grade = "purified", purge_destination = "flare", power = "dear" }}
+[[alternatives]]
+name = "{NAMES['membrane']}"
+choices = {{ makeup_grade = "standard", purge_destination = "fuel", recovery = "membrane" }}
+[[alternatives]]
+name = "{NAMES['tight']}"
+choices = {{ makeup_grade = "standard", inert_limit = "tight" }}
+"""
+REL = 1e-9
+
+
+@pytest.fixture(scope="module")
+def study():
+    """The reduced demo study (about ten seconds: optimum, sensitivity, break-even)."""
+    text = DEMO.read_text(encoding="utf-8")
+    original = 'name = "Northfield ammonia loop (invented demo)"'
+    assert original in text, "the demo case changed; update this fixture"
+    text = text.replace(original, f'name = "{CASE_NAME}"') + EXTRA
+    sha = hashlib.sha256(text.encode("utf-8")).hexdigest()
+    return run_study(parse_case_text(text), sha, sensitivity_alternatives=2)
+
+
+@pytest.fixture(scope="module")
+def written(study, tmp_path_factory):
+    return write_workbook(tmp_path_factory.mktemp("workbook") / "study.xlsx", study)
+
+
+@pytest.fixture(scope="module")
+def recalculated(written, tmp_path_factory):
+    if SOFFICE is None:
+        pytest.skip("LibreOffice (soffice) not installed")
+    return recalculate(written, tmp_path_factory.mktemp("recalculated"))
+
+
+def recalculate(src: Path, workdir: Path) -> Path:
+    """Open ``src`` in headless LibreOffice Calc and save it again as .xlsx.
+
+    openpyxl stores formulas without cached results, so Calc computes every
+    formula on load; the saved copy carries the computed values.  A fresh
+    user profile keeps the run independent of any other LibreOffice.
+    """
+    profile = workdir / "lo-profile"
+    out = workdir / "out"
+    out.mkdir(exist_ok=True)
+    cmd = [SOFFICE, f"-env:UserInstallation={profile.as_uri()}", "--headless", "--norestore",
+           "--convert-to", "xlsx", "--outdir", str(out), str(src)]
+    done = subprocess.run(cmd, capture_output=True, text=True, timeout=300, check=False)
+    result = out / src.name
+    assert done.returncode == 0 and result.exists(), (done.stdout, done.stderr)
+    return result
+
+
+def cost_cells(wb) -> dict[int, dict]:
+    """Cost build-up values by alternative number: lines by key, TAC, tonnes, per tonne."""
+    ws = wb[workbook.COSTS]
+    out: dict[int, dict] = {}
+    current = None
+    for a, kind, qty, _unit, cost, _recipe, key in ws.iter_rows(min_row=3, max_col=7,
+                                                                 values_only=True):
+        if isinstance(a, str) and (m := re.match(r"Alternative (\d+): ", a)):
+            current = out.setdefault(int(m.group(1)), {"lines": {}})
+        elif kind in ("hourly", "capital", "replacement"):
+            current["lines"][key] = cost
+        elif a == "Total annualised cost (TAC)":
+            current["tac"] = cost
+        elif a == "Annual product":
+            current["tonnes"] = qty
+        elif isinstance(a, str) and a.startswith("Cost per tonne"):
+            current["per_tonne"] = cost
+    return out
+
+
+def numbered(study):
+    return list(enumerate(study.alternatives, start=1))
+
+
+# ---------------------------------------------------------------------------
+# structure (no spreadsheet program needed)
+
+
+def test_sheets_names_and_layout(study):
+    wb = build_workbook(study)
+    assert wb.sheetnames == list(workbook.SHEETS)
+    for ws in wb:
+        # Excel's limits on sheet names: 31 characters, none of []:*?/\
+        assert len(ws.title) <= 31 and not set(ws.title) & set("[]:*?/\\")
+        assert ws.freeze_panes is not None, ws.title
+    for name, dn in wb.defined_names.items():
+        assert re.fullmatch(r"[A-Za-z_][A-Za-z0-9_.]*", name)
+        assert not re.fullmatch(r"[A-Za-z]{1,3}[0-9]+|[RrCc][0-9]*|[Rr][0-9]*[Cc][0-9]*", name)
+        (sheet, cell), = dn.destinations
+        assert sheet == workbook.ASSUMPTIONS
+        assert isinstance(wb[sheet][cell.replace("$", "")].value, float)
+    assert "price_per_kmol_standard" in wb.defined_names
+    # only the alternative with its own power price has its own cell
+    dear = next(i for i, a in numbered(study) if a.name == NAMES["dear"])
+    assert [n for n in wb.defined_names if "_alt" in n] == [f"power_price_per_kwh_alt{dear}"]
+    # one scatter chart per feasible alternative, the optimum as a one-point series
+    charts = wb[workbook.CURVES]._charts
+    assert len(charts) == len(study.ranked)
+    for chart in charts:
+        assert chart.tagname == "scatterChart" and len(chart.series) == 2
+        ref = chart.series[1].yVal.numRef.f
+        assert re.fullmatch(r"'Cost curves'!\$B\$\d+", ref), ref
+    assert [c.tagname for c in wb[workbook.SENSITIVITY]._charts] == ["barChart"]
+
+
+def test_cautions_method_and_provenance(study):
+    wb = build_workbook(study)
+
+    def texts(ws):
+        return {c.value for row in ws.iter_rows() for c in row if isinstance(c.value, str)}
+
+    for sheet in (workbook.SUMMARY, workbook.NOTES):
+        assert set(workbook.CAUTIONS) <= texts(wb[sheet])
+    notes = texts(wb[workbook.NOTES])
+    assert study.case_sha256 in notes and study.created in notes
+    assert f"purgeplan {study.tool_version}" in notes
+    assert {a.optimum.solver.method for a in study.alternatives if a.optimum.solver.method} \
+        <= notes
+    # infeasible twin: no rank, its reason shown on the Ranking sheet
+    ranking = {row[1]: row for row in wb[workbook.RANKING].iter_rows(min_row=2,
+                                                                     values_only=True)}
+    tight = ranking[NAMES["tight"]]
+    assert tight[0] == "-" and tight[10] == "no" and "inert limit" in tight[12]
+
+
+def test_defined_names_are_valid_and_unique():
+    taken: set[str] = set()
+    name = workbook._defined_name
+    assert name("price_per_kmol:standard", taken) == "price_per_kmol_standard"
+    assert name("price_per_kmol:H2 grade/é", taken) == "price_per_kmol_H2_grade"
+    assert name("A1", taken) == "_A1"              # would read as a cell reference
+    assert name("R1C1", taken) == "_R1C1"          # R1C1 reference style
+    assert name("true", taken) == "_true"          # logical value
+    assert name("2x", taken) == "_2x"              # names start with a letter or _
+    assert name("Standard", taken) == "Standard"
+    assert name("standard", taken) == "standard_2"  # names compare without case
+
+
+def test_case_text_is_never_a_formula(study):
+    wb = build_workbook(study)
+    case_texts = [*NAMES.values(), CASE_NAME]
+    seen = set()
+    for ws in wb:
+        for row in ws.iter_rows():
+            for cell in row:
+                if cell.data_type == "f":
+                    assert not any(t in cell.value for t in case_texts), cell.coordinate
+                elif cell.value in case_texts:
+                    assert cell.data_type == "s", (ws.title, cell.coordinate)
+                    seen.add(cell.value)
+    assert seen == set(case_texts)
+
+
+# ---------------------------------------------------------------------------
+# checks through an independent spreadsheet program
+
+
+@needs_soffice
+def test_recalculated_costs_equal_engine(study, recalculated):
+    """Source: purgeplan.costs.evaluate (engine) vs LibreOffice Calc evaluating the formulas."""
+    wb = openpyxl.load_workbook(recalculated, data_only=True)
+    cells = cost_cells(wb)
+    ranking = {row[2]: row for row in wb[workbook.RANKING].iter_rows(min_row=2,
+                                                                     values_only=True)
+               if isinstance(row[2], int | float)}
+    checked = 0
+    for i, alt in numbered(study):
+        if not alt.optimum.feasible:
+            assert cells[i]["lines"] == {} and "tac" not in cells[i]
+            continue
+        s = alt.optimum.state
+        got = cells[i]
+        assert set(got["lines"]) == set(s.costs)
+        for key, want in s.costs.items():
+            assert got["lines"][key] == pytest.approx(want, rel=REL), (alt.name, key)
+        assert got["tac"] == pytest.approx(s.tac_per_year, rel=REL)
+        assert got["tonnes"] == pytest.approx(s.quantities["product_t_h"]
+                                              * alt.loop.prices.hours_per_year, rel=REL)
+        assert got["per_tonne"] == pytest.approx(s.cost_per_tonne_product, rel=REL)
+        assert ranking[i][8] == pytest.approx(s.tac_per_year, rel=REL)
+        assert ranking[i][9] == pytest.approx(s.cost_per_tonne_product, rel=REL)
+        checked += 1
+    assert checked == 3
+    summary = {row[0]: row[1] for row in wb[workbook.SUMMARY].iter_rows(values_only=True)}
+    best, second = study.ranked[:2]
+    assert summary["Saving against the runner-up"] == pytest.approx(
+        second.optimum.state.tac_per_year - best.optimum.state.tac_per_year, rel=1e-6)
+
+
+@needs_soffice
+def test_changed_prices_reprice_every_alternative(study, written, tmp_path):
+    """Source: costs.evaluate on the same quantities with the changed assumption values."""
+    wb = openpyxl.load_workbook(written)
+    changes = {"price_per_kmol_standard": 1.25, "power_price_per_kwh": 1.4}
+    changes.update({n: 0.8 for n in wb.defined_names if n.startswith("power_price_per_kwh_alt")})
+    new_values = {}
+    for name, factor in changes.items():
+        (sheet, ref), = wb.defined_names[name].destinations
+        cell = wb[sheet][ref.replace("$", "")]
+        cell.value = new_values[name] = cell.value * factor
+    own = [n for n in new_values if "_alt" in n]
+    assert len(own) == 1, "the alternative with its own power price has its own cell"
+    repriced = tmp_path / "repriced.xlsx"
+    wb.save(repriced)
+    cells = cost_cells(openpyxl.load_workbook(recalculate(repriced, tmp_path),
+                                              data_only=True))
+    keys = {"price_per_kmol_standard": "price_per_kmol:standard",
+            "power_price_per_kwh": "power_price_per_kwh"}
+    for i, alt in numbered(study):
+        if not alt.optimum.feasible:
+            continue
+        values = costs.values(costs.assumptions(alt.loop))
+        for base, key in keys.items():
+            used = f"{base}_alt{i}" if f"{base}_alt{i}" in new_values else base
+            if key in values and used in new_values:
+                values[key] = new_values[used]
+        state = alt.optimum.state
+        lines = costs.evaluate(costs.cost_lines(alt.loop), state.quantities, values)
+        want = sum(lines.values())
+        assert cells[i]["tac"] == pytest.approx(want, rel=REL), alt.name
+        assert abs(want - state.tac_per_year) > 1e-3 * state.tac_per_year  # really re-priced
+        for key, value in lines.items():
+            assert cells[i]["lines"][key] == pytest.approx(value, rel=REL), (alt.name, key)
+
+
+@needs_soffice
+def test_case_text_shown_as_text_after_round_trip(study, recalculated):
+    """Names beginning with = + - @ stay the typed text in LibreOffice, never evaluated."""
+    values = openpyxl.load_workbook(recalculated, data_only=True)
+    formulas = openpyxl.load_workbook(recalculated)
+    ranking_rows = range(2, 2 + len(study.alternatives))
+    assert [values[workbook.RANKING].cell(r, 2).value for r in ranking_rows] == \
+        [a.name for a in study.alternatives]
+    for r in ranking_rows:
+        assert formulas[workbook.RANKING].cell(r, 2).data_type == "s"
+    for sheet, ref in ((workbook.SUMMARY, "B2"), (workbook.NOTES, "B4")):
+        assert values[sheet][ref].value == CASE_NAME
+        assert formulas[sheet][ref].data_type == "s"
+    costs_sheet = [c.value for c in values[workbook.COSTS]["A"] if isinstance(c.value, str)]
+    for i, alt in numbered(study):
+        assert any(v.startswith(f"Alternative {i}: {alt.name} (") for v in costs_sheet)
+
+
+# ---------------------------------------------------------------------------
+# atomic write
+
+
+def _broken_save(self, target):
+    """Stands in for Workbook.save: writes half a file, then fails like a full disk."""
+    if hasattr(target, "write"):
+        target.write(b"PK\x03\x04 half a workbook")
+    else:
+        Path(target).write_bytes(b"PK\x03\x04 half a workbook")
+    raise OSError("disk full (simulated)")
+
+
+def test_failed_save_leaves_existing_workbook_unchanged(study, tmp_path, monkeypatch):
+    target = tmp_path / "study.xlsx"
+    write_workbook(target, study)
+    before = target.read_bytes()
+    listing = sorted(os.listdir(tmp_path))
+    monkeypatch.setattr(openpyxl.Workbook, "save", _broken_save)
+    with pytest.raises(OSError, match="simulated"):
+        write_workbook(target, study)
+    assert target.read_bytes() == before
+    assert sorted(os.listdir(tmp_path)) == listing == ["study.xlsx"]
+
+
+def test_failed_save_creates_nothing(study, tmp_path, monkeypatch):
+    monkeypatch.setattr(openpyxl.Workbook, "save", _broken_save)
+    with pytest.raises(OSError, match="simulated"):
+        write_workbook(tmp_path / "new.xlsx", study)
+    assert os.listdir(tmp_path) == []
+
+
+def test_successful_write_replaces_and_leaves_no_temporary(study, tmp_path):
+    target = tmp_path / "study.xlsx"
+    target.write_bytes(b"old contents")
+    assert write_workbook(str(target), study) == target
+    assert target.read_bytes()[:2] == b"PK"
+    assert os.listdir(tmp_path) == ["study.xlsx"]
+    assert openpyxl.load_workbook(target).sheetnames == list(workbook.SHEETS)
