@@ -115,16 +115,16 @@ def _status_of(optima) -> int:
 
 
 def _print_table(rows, currency: str) -> None:
-    header = (f"{'rank':>4}  {'alternative':<60} {'purge':>9} {'inert@inlet':>11} "
-              f"{'TAC ' + currency + '/yr':>16} {'per t':>9}")
-    print(header)
+    width = max([len("alternative")] + [len(name) for _, name, _ in rows])
+    print(f"{'rank':>4}  {'alternative':<{width}} {'purge fraction':>14} "
+          f"{'inert at inlet':>14} {'TAC ' + currency + '/year':>18} {currency + '/t':>9}")
     for rank, name, opt in rows:
         s = opt.state
         if s is None:
-            print(f"{'-':>4}  {name[:60]:<60} {opt.status.value.upper()}: {opt.message}")
+            print(f"{'-':>4}  {name:<{width}} {opt.status.value.upper()}: {opt.message}")
             continue
-        print(f"{rank if rank else '':>4}  {name[:60]:<60} {s.purge_fraction:9.5f} "
-              f"{100 * s.inert_fraction_reactor_inlet:10.2f}% {s.tac_per_year:16,.0f} "
+        print(f"{rank if rank else '':>4}  {name:<{width}} {s.purge_fraction:14.6f} "
+              f"{100 * s.inert_fraction_reactor_inlet:13.2f}% {s.tac_per_year:18,.0f} "
               f"{s.cost_per_tonne_product:9.2f}")
 
 
@@ -293,8 +293,16 @@ COMMANDS = {"check": cmd_check, "new": cmd_new, "evaluate": cmd_evaluate,
 
 
 def main(argv: list[str] | None = None) -> int:
+    import signal
+    import threading
+
     from .errors import CaseError, NoSteadyStateError
 
+    def _terminate(signum, frame):  # a polite kill cleans up like Ctrl-C
+        raise KeyboardInterrupt
+
+    if threading.current_thread() is threading.main_thread():
+        signal.signal(signal.SIGTERM, _terminate)
     parser = _parser()
     args = parser.parse_args(argv)
     if args.command is None:

@@ -6,6 +6,7 @@ import contextlib
 import os
 import tempfile
 from collections.abc import Callable
+from glob import escape as glob_escape
 from pathlib import Path
 
 
@@ -13,6 +14,33 @@ def _umask() -> int:
     mask = os.umask(0)
     os.umask(mask)
     return mask
+
+
+def _sweep(folder: Path, name: str) -> None:
+    """Remove temporary files left by earlier writes of ``name`` whose process is gone.
+
+    A process killed outright (SIGKILL, power loss) cannot clean up after itself;
+    its temporary file carries its process id, and the next write removes it.
+    """
+    for leftover in folder.glob(f".{glob_escape(name)}.*.part"):
+        try:
+            pid = int(leftover.name[len(name) + 2:].split(".", 1)[0])
+        except ValueError:
+            continue
+        if pid == os.getpid() or _alive(pid):
+            continue
+        with contextlib.suppress(OSError):
+            leftover.unlink()
+
+
+def _alive(pid: int) -> bool:
+    try:
+        os.kill(pid, 0)
+    except ProcessLookupError:
+        return False
+    except PermissionError:
+        return True
+    return True
 
 
 def write_atomically(path: str | Path, write: Callable[[Path], None]) -> Path:
@@ -24,7 +52,9 @@ def write_atomically(path: str | Path, write: Callable[[Path], None]) -> Path:
     """
     path = Path(path)
     folder = path.parent if str(path.parent) else Path(".")
-    fd, tmp_name = tempfile.mkstemp(dir=folder, prefix=f".{path.name}.", suffix=".part")
+    _sweep(folder, path.name)
+    fd, tmp_name = tempfile.mkstemp(dir=folder, prefix=f".{path.name}.{os.getpid()}.",
+                                    suffix=".part")
     os.close(fd)
     tmp = Path(tmp_name)
     try:
