@@ -210,9 +210,17 @@ def steady_state(loop: Loop, purge_fraction: float | None = None,
     x = initial_conversions(loop, conversion)
     work = None
     eq_x: dict[int, float] = {}
+    physical_x = None
     for _ in range(max_iterations):
         z = eng.solve(a, [x[i] for i in range(len(loop.reactions))], shares)
         flows, extents, sources = eng.unpack(z)
+        if _negative(flows):
+            if physical_x is None:
+                raise NoSteadyStateError(_unphysical(flows))
+            # an overshooting iterate: step back towards the last physical one
+            x = {i: 0.5 * (x[i] + physical_x[i]) for i in x}
+            continue
+        physical_x = dict(x)
         new_work = lp.recycle_work_kj_kmol(loop, _composition(flows["separator_vapour"]))
         eq_x = lp.equilibrium_conversions(loop, flows["reactor_feed"])
         new_x = dict(x)
@@ -235,12 +243,8 @@ def steady_state(loop: Loop, purge_fraction: float | None = None,
         raise NoSteadyStateError(
             f"the per-pass conversion {x[above[0]]:.4g} of '{r.name}' is above its equilibrium "
             f"conversion {eq_x[above[0]]:.4g} at the reactor inlet")
-    negative = [(s, c) for s, fl in flows.items() for c, f in fl.items()
-                if f < -1e-9 * max(1.0, sum(flows["reactor_feed"].values()))]
-    if negative:
-        s, c = negative[0]
-        raise NoSteadyStateError(f"no physical steady state: stream {s} would carry "
-                                 f"{flows[s][c]:.4g} kmol/h of {c}")
+    if _negative(flows):
+        raise NoSteadyStateError(_unphysical(flows))
     return make_state(loop, a, x, flows, extents, sources, work,
                       lp.volume_per_feed(loop, x), eq_x)
 
@@ -258,6 +262,18 @@ def initial_conversions(loop: Loop, given: dict[int, float] | None = None) -> di
         else:
             out[i] = 0.5 * r.approach_to_equilibrium
     return out
+
+
+def _negative(flows) -> list:
+    scale = max(1.0, abs(sum(flows["reactor_feed"].values())))
+    return [(s, c) for s, fl in flows.items() for c, f in fl.items() if f < -1e-9 * scale]
+
+
+def _unphysical(flows) -> str:
+    s, c = _negative(flows)[0]
+    return (f"no physical steady state: stream {s} would carry {flows[s][c]:.4g} kmol/h of {c}"
+            + (" (the separator cannot condense the product at this inert level)"
+               if s == "liquid_product" else ""))
 
 
 def _composition(flow: dict[str, float]) -> dict[str, float]:

@@ -567,6 +567,8 @@ def equilibrium_conversions(loop: Loop, inlet_kmol_h: Mapping[str, float]) -> di
     nu = np.array([[loop.reactions[i].stoichiometry.get(c, 0.0) for c in comps] for i in idx])
     rhs = np.array([ln_k_pressure(loop, loop.reactions[i]) for i in idx])
     n0 = np.array([max(inlet_kmol_h[c], 0.0) for c in comps])
+    if n0.sum() <= 0.0:
+        return {i: 0.0 for i in idx}
     xi = equilibrium_extents_kmol_h(n0, nu, rhs)
     out = {}
     for j, i in enumerate(idx):

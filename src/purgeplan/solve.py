@@ -134,6 +134,25 @@ class LoopLP:
 
     # -- one LP ------------------------------------------------------------
     def _lp(self) -> Status:
+        """One HiGHS solve of the LP as it stands.
+
+        A solve that ends with neither an optimum nor proven infeasibility is
+        tried once more from a cold start (a warm basis carried over many
+        re-solves can stall on a badly scaled loop, for instance with trace
+        inerts); a second such end is a solver failure.
+        """
+        status, condition = self._run()
+        if status is Status.FAILED:
+            highs = getattr(self.solver, "_solver_model", None)
+            if highs is not None:
+                highs.clearSolver()
+                status, condition = self._run()
+        if status is Status.OPTIMAL or status is Status.INFEASIBLE:
+            return status
+        raise SolverFailure(f"HiGHS stopped with '{condition.name}'"
+                            + (" (time limit)" if status is Status.TIME_LIMIT else ""))
+
+    def _run(self):
         if self.time_limit_s is not None and time.perf_counter() - self.started > self.time_limit_s:
             raise SolverFailure(f"time limit of {self.time_limit_s:g} s reached")
         options = dict(self.solver_options)
@@ -149,10 +168,7 @@ class LoopLP:
         status = map_termination(result.termination_condition)
         if status is Status.OPTIMAL:
             result.solution_loader.load_vars()
-        elif status is not Status.INFEASIBLE:
-            raise SolverFailure(f"HiGHS stopped with '{result.termination_condition.name}'"
-                                + (" (time limit)" if status is Status.TIME_LIMIT else ""))
-        return status
+        return status, result.termination_condition
 
     def _read(self):
         m, loop = self.model, self.loop
