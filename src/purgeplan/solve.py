@@ -125,6 +125,7 @@ class LoopLP:
         self.unlimited: dict[tuple, LoopState] = {}
         self.converged: list[tuple[float, dict]] = []
         self.solver_options = {"output_flag": False, **(solver_options or {})}
+        self._columns = None
         self.solves = 0
         self.started = time.perf_counter()
         self.time_limit_s = time_limit_s
@@ -153,22 +154,66 @@ class LoopLP:
                             + (" (time limit)" if status is Status.TIME_LIMIT else ""))
 
     def _run(self):
+        """Solve once; returns (status, termination condition or HiGHS model status)."""
         if self.time_limit_s is not None and time.perf_counter() - self.started > self.time_limit_s:
             raise SolverFailure(f"time limit of {self.time_limit_s:g} s reached")
         options = dict(self.solver_options)
         if self.time_limit_s is not None:
             remaining = self.time_limit_s - (time.perf_counter() - self.started)
             options["time_limit"] = max(remaining, 1e-3)
-        self.solver.config.solver_options = options
         try:
+            if self._columns is not None:
+                return self._rerun(options)
+            self.solver.config.solver_options = options
             result = self.solver.solve(self.model)
+        except SolverFailure:
+            raise
         except Exception as exc:  # a solver library fault is reported, not raised raw
             raise SolverFailure(f"HiGHS raised {type(exc).__name__}: {exc}") from None
         self.solves += 1
         status = map_termination(result.termination_condition)
         if status is Status.OPTIMAL:
             result.solution_loader.load_vars()
+        self._columns = self._column_map()
         return status, result.termination_condition
+
+    def _column_map(self):
+        """The flow, extent and source variables, read straight from HiGHS on re-solves.
+
+        Re-solves then push the changed coefficients through the persistent
+        interface's ``update()`` and run the same HiGHS instance directly,
+        without Pyomo's per-solve output capture.  Where the interface does not
+        expose its HiGHS instance this returns None and every solve goes
+        through ``solve()``.
+        """
+        var_map = getattr(self.solver, "_pyomo_var_to_solver_var_map", None)
+        if getattr(self.solver, "_solver_model", None) is None or var_map is None:
+            return None
+        m = self.model
+        return list(m.flow.values()) + list(m.extent.values()) + list(m.source.values())
+
+    def _rerun(self, options: dict):
+        import highspy
+
+        highs = self.solver._solver_model
+        self.solver.update()
+        for key, value in options.items():
+            highs.setOptionValue(key, value)
+        highs.run()
+        self.solves += 1
+        model_status = highs.getModelStatus()
+        s = highspy.HighsModelStatus
+        if model_status == s.kOptimal:
+            values = highs.getSolution().col_value
+            columns = self.solver._pyomo_var_to_solver_var_map  # renumbered by update()
+            for var in self._columns:
+                var.set_value(values[columns[id(var)]], skip_validation=True)
+            return Status.OPTIMAL, model_status
+        if model_status in (s.kInfeasible, s.kUnboundedOrInfeasible):
+            return Status.INFEASIBLE, model_status
+        if model_status in (s.kTimeLimit, s.kIterationLimit):
+            return Status.TIME_LIMIT, model_status
+        return Status.FAILED, model_status
 
     def _read(self):
         m, loop = self.model, self.loop
@@ -435,7 +480,7 @@ def _scan_and_refine(f, lo: float, hi: float, points: int, xtol_rel: float, marg
     return best_x, best_f, sorted(seen.items())
 
 
-def optimise(loop: Loop, *, scan_points: int = 25, xtol_rel: float = 1e-7,
+def optimise(loop: Loop, *, scan_points: int = 17, xtol_rel: float = 1e-6,
              details: bool = True, time_limit_s: float | None = None,
              solver_options: dict | None = None, reuse: LoopLP | None = None) -> Optimum:
     """The lowest-cost purge fraction (and conversion, for a sized reactor).
