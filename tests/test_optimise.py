@@ -270,3 +270,61 @@ def test_dearer_power_never_lowers_the_purge(factor):
     dear = dataclasses.replace(loop, prices=dataclasses.replace(
         loop.prices, power_price_per_kwh=loop.prices.power_price_per_kwh * factor))
     assert optimise(dear).state.purge_fraction >= optimise(loop).state.purge_fraction * (1 - 1e-6)
+
+
+# -- the LP's own freedom (source blend) and a sized reactor, against 2-D engine scans ------
+
+def _blend_loop():
+    """Two make-up grades at once: a cheap one with a supply limit, a purer dear one."""
+    raw = tomllib.loads(_small_case_text())
+    raw["sources"]["syngas"]["supply_limit_kmol_h"] = 1500.0
+    raw["sources"]["pure"] = {"composition": {"H2": 0.75, "N2": 0.25}, "price_per_kmol": 2.9,
+                              "supply_pressure_bar": 30}
+    return build_loop(validate_case_dict(raw), "blend")
+
+
+def test_source_blend_is_optimal_against_a_two_dimensional_engine_scan():
+    loop = _blend_loop()
+    opt = optimise(loop)
+    assert opt.status is Status.OPTIMAL, opt.message
+    s = opt.state
+    total = sum(s.sources.values())
+    share = s.sources["syngas"] / total
+    # the LP's state is the engine's state at the LP's blend
+    same = steady_state(loop, s.purge_fraction, shares={"syngas": share, "pure": 1 - share})
+    assert same.tac_per_year == pytest.approx(s.tac_per_year, rel=1e-9)
+    assert s.sources["syngas"] <= 1500.0 * (1 + 1e-9)
+    best = math.inf
+    for a in np.geomspace(s.purge_fraction / 3, min(3 * s.purge_fraction, 0.4), 41):
+        for w in np.linspace(0.0, 1.0, 41):
+            st = steady_state(loop, a, shares={"syngas": w, "pure": 1 - w})
+            if st.sources["syngas"] <= 1500.0:
+                best = min(best, st.tac_per_year)
+    assert s.tac_per_year <= best * (1 + 1e-9)
+    assert "supply_limit_kmol_h:syngas" in opt.binding_constraints
+
+
+def test_sized_reactor_optimum_against_a_two_dimensional_engine_scan():
+    raw = tomllib.loads(_small_case_text())
+    raw["reactions"][0] = {
+        "name": "synthesis", "stoichiometry": {"N2": -1, "H2": -3, "NH3": 2},
+        "key_reactant": "N2", "per_pass": "sized",
+        "sizing": {"reference_conversion": 0.25, "reference_volume_m3": 40.0,
+                   "reference_feed_kmol_h": 15000.0, "equilibrium_conversion": 0.45,
+                   "conversion_min": 0.05, "conversion_max": 0.42}}
+    loop = build_loop(validate_case_dict(raw), "sized")
+    opt = optimise(loop)
+    assert opt.status is Status.OPTIMAL, opt.message
+    s = opt.state
+    x = s.per_pass_conversion
+
+    def tac(a, xx):
+        return steady_state(loop, a, conversion={0: xx}).tac_per_year
+
+    assert tac(s.purge_fraction, x) == pytest.approx(s.tac_per_year, rel=1e-9)
+    grid = min(tac(a, xx) for a in np.geomspace(s.purge_fraction / 2, 2 * s.purge_fraction, 31)
+               for xx in np.linspace(max(0.05, x - 0.05), min(0.42, x + 0.05), 31))
+    assert s.tac_per_year <= grid * (1 + 1e-9)
+    res = minimize_scalar(lambda xx: tac(s.purge_fraction, xx), bounds=(0.05, 0.42),
+                          method="bounded", options={"xatol": 1e-9})
+    assert s.tac_per_year <= res.fun * (1 + 1e-7)

@@ -9,9 +9,13 @@ tangents) are converged by an inner fixed point with secant acceleration.
 
 Outer search.  TAC(a) is scanned on a log-spaced grid over the allowed box;
 around the best grid point the feasibility edge (where a limit starts to
-bind) is found by bisection and the minimum by bounded Brent refinement.  A
-sized reactor nests the same search over X inside each evaluation of a.  The
-result states the grid, the refinement tolerance and the number of solves.
+bind) is found as a root of the limit margin by Brent's method (bisection
+where the LP still has freedom), and the minimum by bounded Brent refinement.
+A sized reactor nests the same search over X inside each evaluation of a.
+The result states the grid, the refinement tolerance and the number of solves.
+
+Re-solves push the changed fixed values and parameters through the
+persistent interface's ``update()`` and run the same HiGHS instance.
 """
 
 from __future__ import annotations
@@ -554,7 +558,7 @@ def optimise(loop: Loop, *, scan_points: int = 17, xtol_rel: float = 1e-6,
         info.seconds = time.perf_counter() - t0
         info.method = (
             f"reduced space: purge fraction scanned at {scan_points} log-spaced points in "
-            f"[{lo:g}, {hi:g}], feasibility edges by bisection and bounded Brent refinement "
+            f"[{lo:g}, {hi:g}], feasibility edges by root finding and bounded Brent refinement "
             f"to a relative tolerance of {xtol_rel:g} in the purge fraction"
             + (f"; per-pass conversion searched the same way in [{s['conversion_min']:g}, "
                f"{s['conversion_max']:g}] at each purge fraction" if k is not None else "")
