@@ -12,7 +12,6 @@ import copy
 import difflib
 import hashlib
 import itertools
-import math
 import tomllib
 import typing
 from pathlib import Path
@@ -447,10 +446,7 @@ def load_case(path: str | Path) -> tuple[Case, str]:
     path = Path(path)
     text = read_case_bytes(path)
     digest = hashlib.sha256(text.encode("utf-8")).hexdigest()
-    try:
-        return parse_case_text(text, source=str(path)), digest
-    except CaseError:
-        raise
+    return parse_case_text(text, source=str(path)), digest
 
 
 # ---------------------------------------------------------------------------
@@ -499,7 +495,3 @@ def expand_alternatives(case: Case) -> list[tuple[str, dict[str, str], Case]]:
     if not result:
         raise CaseError("exclude", "every alternative is excluded; nothing is left to study")
     return sorted(result, key=lambda item: item[0])
-
-
-def is_finite_number(value: Any) -> bool:
-    return isinstance(value, int | float) and math.isfinite(value)

@@ -105,10 +105,9 @@ def build_model(loop: Loop, capital: str = "tangent") -> pyo.ConcreteModel:
     m.conversion = pyo.Var(m.REACTION, bounds=(0.0, 1.0), initialize=0.2)
     m.purge_fraction.fix(loop.purge_fraction)
     m.conversion.fix()
+    # state-dependent coefficients, set by the solve layer before every solve
     m.recycle_work_kj_kmol = pyo.Param(mutable=True, initialize=1000.0)
-    m.volume_per_feed = pyo.Param(mutable=True, initialize=lp.volume_per_feed(
-        loop, {i: 0.5 for i in range(len(loop.reactions))}) if loop.sized_reaction is None
-        else 1.0)
+    m.volume_per_feed = pyo.Param(mutable=True, initialize=1.0)
 
     v = LoopVariables(flow=m.flow, extent=m.extent, source=m.source,
                       purge_fraction=m.purge_fraction, conversion=m.conversion)
@@ -117,10 +116,7 @@ def build_model(loop: Loop, capital: str = "tangent") -> pyo.ConcreteModel:
     for key in ("recycle_compressor_power_kw", "makeup_compressor_power_kw", "reactor_volume_m3",
                 "reactor_feed_kmol_h", "inert_kmol_h_reactor_inlet", "disposal_heat_gj_h"):
         m.add_component(key, pyo.Expression(expr=q[key]))
-    q.update({k: m.component(k) for k in ("recycle_compressor_power_kw",
-                                           "makeup_compressor_power_kw", "reactor_volume_m3",
-                                           "reactor_feed_kmol_h", "inert_kmol_h_reactor_inlet",
-                                           "disposal_heat_gj_h")})
+        q[key] = m.component(key)
     add_limits(m, loop)
     add_costs(m, loop, q, capital)
     return m

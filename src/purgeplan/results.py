@@ -122,7 +122,6 @@ def make_state(loop: Loop, purge_fraction: float, conversion: dict[int, float],
     feed = flows["reactor_feed"]
     total_feed = sum(feed.values())
     reactants = sorted({c for r in loop.reactions for c, nu in r.stoichiometry.items() if nu < 0})
-    bought = sum(sources.values())
     spend = sum(loop.prices.source_price_per_kmol[s] * f for s, f in sources.items())
     reactant_bought = sum(flows[s][c] for s in ("makeup", "liquid_feed") if s in flows
                           for c in reactants)
@@ -133,7 +132,6 @@ def make_state(loop: Loop, purge_fraction: float, conversion: dict[int, float],
     consumed_key = sum(-r.stoichiometry[key] * extents[i] for i, r in enumerate(loop.reactions)
                        if key in r.stoichiometry)
     species, element = _balances(loop, flows, extents)
-    del bought
     return LoopState(
         name=loop.name, purge_fraction=float(purge_fraction),
         conversion={i: float(x) for i, x in conversion.items()}, flows=flows,

@@ -12,7 +12,6 @@ from __future__ import annotations
 import dataclasses
 import datetime as dt
 import logging
-import math
 from collections.abc import Callable
 from dataclasses import dataclass, field
 
@@ -356,10 +355,6 @@ def run_study(case: Case, case_sha256: str, *, jobs: int = 1, client=None,
 
 def _tac(opt: Optimum) -> float | None:
     return opt.state.tac_per_year if opt.feasible else None
-
-
-def is_finite(x) -> bool:
-    return x is not None and math.isfinite(x)
 
 
 def study_document(result: StudyResult) -> dict:
