@@ -20,7 +20,7 @@ def _pyplot():
 def plot_cost_curves(path: str | Path, study) -> Path:
     """TAC against purge fraction for every feasible alternative, optima marked."""
     plt = _pyplot()
-    fig, ax = plt.subplots(figsize=(8, 5), dpi=120)
+    fig, ax = plt.subplots(figsize=(8, 6.5), dpi=120)
     for alt in study.ranked:
         curve = alt.optimum.curve
         if not curve:
@@ -35,9 +35,10 @@ def plot_cost_curves(path: str | Path, study) -> Path:
     ax.set_ylabel(f"Total annualised cost [million {study.currency}/year]")
     ax.set_title("Cost curves (dots: optimum of each alternative)")
     ax.grid(True, which="both", alpha=0.3)
-    ax.legend(fontsize=7, loc="best")
+    ax.legend(fontsize=7, loc="upper center", bbox_to_anchor=(0.5, -0.13), ncol=2,
+              frameon=False)
     fig.tight_layout()
-    out = write_atomically(Path(path), lambda tmp: fig.savefig(tmp, format="png"))
+    out = write_atomically(Path(path), lambda tmp: fig.savefig(tmp, format="png", bbox_inches="tight"))
     plt.close(fig)
     return out
 
@@ -67,6 +68,6 @@ def plot_sensitivity(path: str | Path, study) -> Path:
     ax.set_title(f"Sensitivity: {best.name if best else ''}", fontsize=9)
     ax.legend(fontsize=8)
     fig.tight_layout()
-    out = write_atomically(Path(path), lambda tmp: fig.savefig(tmp, format="png"))
+    out = write_atomically(Path(path), lambda tmp: fig.savefig(tmp, format="png", bbox_inches="tight"))
     plt.close(fig)
     return out
