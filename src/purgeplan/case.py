@@ -12,6 +12,7 @@ import copy
 import difflib
 import hashlib
 import itertools
+import json
 import tomllib
 import typing
 from pathlib import Path
@@ -21,9 +22,11 @@ from pydantic import BaseModel, ConfigDict, Field, ValidationError, model_valida
 
 from .errors import CaseError
 
-Positive = Annotated[float, Field(gt=0, allow_inf_nan=False)]
-NonNegative = Annotated[float, Field(ge=0, allow_inf_nan=False)]
-Finite = Annotated[float, Field(allow_inf_nan=False)]
+#: Magnitudes outside [1e-9, 1e12] are typing errors for every quantity of a loop
+#: study (flows, prices, sizes, costs); refusing them keeps the numerics sound.
+Positive = Annotated[float, Field(ge=1e-9, le=1e12, allow_inf_nan=False)]
+NonNegative = Annotated[float, Field(ge=0, le=1e12, allow_inf_nan=False)]
+Finite = Annotated[float, Field(ge=-1e12, le=1e12, allow_inf_nan=False)]
 OpenFraction = Annotated[float, Field(gt=0, lt=1, allow_inf_nan=False)]
 Fraction = Annotated[float, Field(ge=0, le=1, allow_inf_nan=False)]
 Name = Annotated[str, Field(min_length=1, max_length=200)]
@@ -79,7 +82,7 @@ class ReactionSpec(_Strict):
 
 class ReactorSpec(_Strict):
     temperature_c: Annotated[float, Field(gt=-273.15, lt=2000, allow_inf_nan=False)]
-    space_velocity_per_h: Positive = 10000.0
+    space_velocity_per_h: Annotated[float, Field(ge=1, le=1e6, allow_inf_nan=False)] = 10000.0
 
 
 class InletRatio(_Strict):
@@ -90,7 +93,7 @@ class InletRatio(_Strict):
 
 class LoopSpec(_Strict):
     pressure_bar: Annotated[float, Field(gt=0, lt=2000, allow_inf_nan=False)]
-    pressure_drop_bar: Positive
+    pressure_drop_bar: Annotated[float, Field(ge=1e-3, le=1000, allow_inf_nan=False)]
     basis: Literal["production", "makeup"] = "production"
     product: Name
     production_t_d: Positive | None = None
@@ -146,7 +149,7 @@ class EconomicsSpec(_Strict):
     currency: Annotated[str, Field(min_length=1, max_length=12)] = "EUR"
     hours_per_year: Annotated[float, Field(gt=0, le=8784, allow_inf_nan=False)] = 8000.0
     discount_rate: Annotated[float, Field(ge=0, lt=1, allow_inf_nan=False)] = 0.08
-    life_years: Annotated[float, Field(gt=0, le=100, allow_inf_nan=False)] = 20.0
+    life_years: Annotated[float, Field(ge=1, le=100, allow_inf_nan=False)] = 20.0
     cost_index_ratio: Positive = 1.0
     power_price_per_kwh: NonNegative
     fuel_price_per_gj: NonNegative = 0.0
@@ -155,7 +158,7 @@ class EconomicsSpec(_Strict):
     compressor_capital: CapitalItem
     reactor_capital: CapitalItem
     catalyst_price_per_m3: NonNegative = 0.0
-    catalyst_life_years: Positive = 5.0
+    catalyst_life_years: Annotated[float, Field(ge=0.01, le=100, allow_inf_nan=False)] = 5.0
     sensitivity_fraction: Annotated[float, Field(gt=0, lt=1, allow_inf_nan=False)] = 0.2
 
 
@@ -295,6 +298,10 @@ def check_case(case: Case) -> None:
     if not any(case.sources[s].enters == "makeup" for s in active):
         raise _Located("makeup_sources", "at least one source must enter as make-up gas")
 
+    rate = case.economics.discount_rate
+    if 0.0 < rate < 1e-6:
+        raise _Located("economics.discount_rate",
+                       f"{rate!r} is neither 0 nor a rate of at least 1e-6 per year")
     rec = case.purge.recovery
     if rec != "none" and rec not in case.recovery_units:
         raise _Located("purge.recovery",
@@ -328,41 +335,47 @@ def check_case(case: Case) -> None:
 
 
 def _fields_at(model: type, loc: tuple) -> list[str]:
-    """Field names of the (sub)model reached by a pydantic error location."""
+    """Field names of the (sub)model reached by a pydantic error location.
+
+    Steps through models by field name, and over list indexes and table keys
+    by the element type of ``list[...]`` and ``dict[str, ...]`` annotations.
+    """
     current: Any = model
     for part in loc:
+        current = _strip_optional(current)
         if isinstance(current, type) and issubclass(current, BaseModel):
             field = current.model_fields.get(part)
             if field is None:
                 return []
             current = field.annotation
+        elif typing.get_origin(current) in (list, dict):
+            current = typing.get_args(current)[-1]
         else:
-            current = _unwrap(current)
-            if isinstance(current, type) and issubclass(current, BaseModel):
-                field = current.model_fields.get(part)
-                if field is None:
-                    return []
-                current = field.annotation
-        current = _unwrap(current)
+            return []
+    current = _strip_optional(current)
     if isinstance(current, type) and issubclass(current, BaseModel):
         return list(current.model_fields)
     return []
 
 
-def _unwrap(annotation: Any) -> Any:
-    """The model class inside Optional[...], list[...] or dict[str, ...] annotations."""
-    for _ in range(4):
-        args = typing.get_args(annotation)
-        if not args:
-            return annotation
-        models = [a for a in args if isinstance(a, type) and issubclass(a, BaseModel)]
-        if models:
-            return models[0]
-        inner = [a for a in args if typing.get_args(a)]
-        if not inner:
-            return annotation
-        annotation = inner[-1]
+def _strip_optional(annotation: Any) -> Any:
+    """``X`` from ``X | None`` (and the metadata-free type from ``Annotated``)."""
+    if typing.get_origin(annotation) is Annotated:
+        annotation = typing.get_args(annotation)[0]
+    args = typing.get_args(annotation)
+    if args and type(None) in args:
+        rest = [a for a in args if a is not type(None)]
+        if len(rest) == 1:
+            return _strip_optional(rest[0])
     return annotation
+
+
+def _key(part: Any) -> str:
+    """One key of a path, quoted when it is not a plain name (so messages stay one line)."""
+    text = str(part)
+    if text and all(ch.isalnum() or ch in "_-:" for ch in text):
+        return text
+    return json.dumps(text, ensure_ascii=True)
 
 
 def _path(loc: tuple) -> str:
@@ -371,7 +384,7 @@ def _path(loc: tuple) -> str:
         if isinstance(part, int):
             out += f"[{part}]"
         else:
-            out += ("." if out else "") + str(part)
+            out += ("." if out else "") + _key(part)
     return out
 
 
@@ -381,8 +394,13 @@ def _short(value: Any) -> str:
 
 
 def _case_error(exc: ValidationError, prefix: str = "") -> CaseError:
-    """The first pydantic error as a one-line CaseError with a did-you-mean hint."""
-    err = exc.errors(include_url=False)[0]
+    """One pydantic error as a one-line CaseError with a did-you-mean hint.
+
+    An unknown key is reported before anything else: a misspelt or unit-less
+    key also makes the intended key missing, and the misspelling is the news.
+    """
+    errors = exc.errors(include_url=False)
+    err = next((e for e in errors if e["type"] == "extra_forbidden"), errors[0])
     loc = tuple(p for p in err["loc"] if p not in ("function-after",))
     path = prefix + _path(loc)
     kind = err["type"]
@@ -390,13 +408,37 @@ def _case_error(exc: ValidationError, prefix: str = "") -> CaseError:
         allowed = _fields_at(Case, loc[:-1])
         hint = difflib.get_close_matches(str(loc[-1]), allowed, n=1, cutoff=0.5)
         fix = f"did you mean '{hint[0]}'?" if hint else f"allowed keys: {', '.join(allowed)}"
-        return CaseError(path, f"unknown key; {fix}")
+        return CaseError(path, f"unknown key; {fix}", value=_short(err.get("input")))
     if kind == "missing":
         return CaseError(path, "missing key: this value is required")
-    if kind == "value_error" and isinstance(err.get("ctx", {}).get("error"), _Located):
-        located = err["ctx"]["error"]
+    ctx = err.get("ctx", {})
+    if kind == "value_error" and isinstance(ctx.get("error"), _Located):
+        located = ctx["error"]
         return CaseError(prefix + located.path, str(located))
-    return CaseError(path, f"{err['msg'].lower()}, found {_short(err.get('input'))}")
+    bounds = {"greater_than": ("greater than", "gt"), "greater_than_equal": ("at least", "ge"),
+              "less_than": ("less than", "lt"), "less_than_equal": ("at most", "le")}
+    if kind in bounds:
+        words, key = bounds[kind]
+        return CaseError(path, f"must be {words} {ctx[key]:g}", value=_short(err.get("input")))
+    return CaseError(path, f"{err['msg'].lower()}", value=_short(err.get("input")))
+
+
+#: Deepest nesting of tables and arrays a case may have.
+MAX_DEPTH = 24
+
+
+def _too_deep(raw: Any) -> tuple | None:
+    """Key path of a point nested deeper than MAX_DEPTH, or None (found without recursion)."""
+    stack = [(raw, ())]
+    while stack:
+        value, loc = stack.pop()
+        if len(loc) > MAX_DEPTH:
+            return loc
+        if isinstance(value, dict):
+            stack.extend((v, loc + (k,)) for k, v in value.items())
+        elif isinstance(value, list):
+            stack.extend((v, loc + (i,)) for i, v in enumerate(value))
+    return None
 
 
 def parse_case_text(text: str, source: str = "case") -> Case:
@@ -411,11 +453,17 @@ def parse_case_text(text: str, source: str = "case") -> Case:
         raw = tomllib.loads(text)
     except tomllib.TOMLDecodeError as exc:
         raise CaseError("", f"{source} is not valid TOML: {exc}") from None
+    except RecursionError:
+        raise CaseError("", f"{source} nests deeper than the TOML reader can follow") from None
     return validate_case_dict(raw)
 
 
 def validate_case_dict(raw: dict, prefix: str = "") -> Case:
     """Validate a case already parsed into plain Python data."""
+    deep = _too_deep(raw)
+    if deep is not None:
+        raise CaseError(prefix + _path(deep[:3]) + "...",
+                        f"tables and arrays nest deeper than {MAX_DEPTH} levels")
     try:
         return Case.model_validate(raw)
     except ValidationError as exc:

@@ -80,7 +80,8 @@ def _parser() -> argparse.ArgumentParser:
 
 
 def _fail(message: str, status: int) -> int:
-    print(f"purgeplan: error: {message}", file=sys.stderr)
+    one_line = " ".join(str(message).split())
+    print(f"purgeplan: error: {one_line}", file=sys.stderr)
     return status
 
 
@@ -153,9 +154,12 @@ def cmd_check(args) -> int:
     for name, lp_ in loops:
         try:
             s = steady_state(lp_)
+            limit = lp_.max_inert_fraction_reactor_inlet
+            over = (f" (above the inert limit {100 * limit:g} %)"
+                    if limit is not None and s.inert_fraction_reactor_inlet > limit else "")
             print(f"  {name}: per-pass {s.per_pass_conversion:.4f}, overall "
                   f"{s.overall_conversion:.4f}, inert at inlet "
-                  f"{100 * s.inert_fraction_reactor_inlet:.2f} %, recycle "
+                  f"{100 * s.inert_fraction_reactor_inlet:.2f} %{over}, recycle "
                   f"{sum(s.flows['recycle'].values()):,.0f} kmol/h, TAC "
                   f"{s.tac_per_year:,.0f} {lp_.prices.currency}/yr, balance error "
                   f"{s.balance_error:.1e}")
@@ -171,6 +175,8 @@ def cmd_new(args) -> int:
     target = Path(args.path)
     if target.exists():
         raise CaseError("path", f"{target} exists; choose a new file name")
+    if not target.parent.is_dir():
+        raise CaseError("path", f"folder {target.parent} does not exist; create it first")
     text = data_file("templates", "case_template.toml").read_text(encoding="utf-8")
     from .output.atomic import write_atomically
 
@@ -308,8 +314,13 @@ def main(argv: list[str] | None = None) -> int:
     if args.command is None:
         parser.print_help()
         return EXIT_OK
+    import warnings
+
     try:
-        return COMMANDS[args.command](args)
+        with warnings.catch_warnings():
+            # numerical warnings of the libraries would break the one-line contract
+            warnings.simplefilter("ignore", RuntimeWarning)
+            return COMMANDS[args.command](args)
     except CaseError as exc:
         return _fail(str(exc), EXIT_BAD_INPUT)
     except NoSteadyStateError as exc:

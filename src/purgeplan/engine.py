@@ -228,7 +228,7 @@ def steady_state(loop: Loop, purge_fraction: float | None = None,
             if loop.reactions[i].per_pass == "equilibrium":
                 new_x[i] = loop.reactions[i].approach_to_equilibrium * xe
         change = max([abs(new_x[i] - x[i]) for i in x] + [
-            abs(new_work - work) / new_work if work is not None else 1.0])
+            abs(new_work - work) / max(new_work, 1e-12) if work is not None else 1.0])
         x, work = new_x, new_work
         if change < tolerance:
             break

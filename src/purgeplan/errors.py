@@ -16,12 +16,15 @@ class CaseError(ValueError):
         Key path in the case file, such as ``loop.pressure_bar``.
     message : str
         What was found and what was expected.
+    value : str, optional
+        The offending value as written, shown after the path.
     """
 
-    def __init__(self, path: str, message: str):
+    def __init__(self, path: str, message: str, value: str | None = None):
         self.path = path
         self.message = message
-        super().__init__(f"{path}: {message}" if path else message)
+        where = f"{path} = {value}" if value is not None else path
+        super().__init__(f"{where}: {message}" if where else message)
 
 
 class NoSteadyStateError(ArithmeticError):

@@ -200,6 +200,7 @@ class LoopLP:
         import highspy
 
         highs = self.solver._solver_model
+        highs.HandleKeyboardInterrupt = True  # Ctrl-C and SIGTERM reach Python during a solve
         self.solver.update()
         for key, value in options.items():
             highs.setOptionValue(key, value)
@@ -339,6 +340,10 @@ class LoopLP:
                 m.conversion[i].fix(xi)
             m.recycle_work_kj_kmol = self.work
             m.volume_per_feed = lp.volume_per_feed(loop, x)
+            if not (math.isfinite(self.work) and math.isfinite(pyo.value(m.volume_per_feed))):
+                raise SolverFailure("a coefficient of the LP is not finite (recycle work "
+                                    f"{self.work:g} kJ/kmol, catalyst volume per feed "
+                                    f"{pyo.value(m.volume_per_feed):g} m3 h/kmol)")
             if self._lp() is Status.INFEASIBLE:
                 self.states[key] = None
                 return None
@@ -347,7 +352,7 @@ class LoopLP:
             vapour = flows["separator_vapour"]
             total = sum(vapour.values())
             new_work = lp.recycle_work_kj_kmol(loop, {c: f / total for c, f in vapour.items()})
-            change = abs(new_work - self.work) / new_work if work_matters else 0.0
+            change = abs(new_work - self.work) / max(new_work, 1e-12) if work_matters else 0.0
             new_x = dict(x)
             above = [i for i, xe in eq_x.items() if loop.reactions[i].per_pass != "equilibrium"
                      and x[i] > xe]
@@ -624,7 +629,7 @@ def _off_optimum(loop: Loop, a_best: float, tac_best: float, f) -> dict:
         out["tac_half_purge_per_year"] = f(a_best / 2)
     if a_best * 2 <= hi:
         out["tac_double_purge_per_year"] = f(a_best * 2)
-    target = 1.01 * tac_best
+    target = tac_best + 0.01 * abs(tac_best)
 
     def g(a):
         v = f(a)

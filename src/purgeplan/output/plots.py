@@ -38,7 +38,8 @@ def plot_cost_curves(path: str | Path, study) -> Path:
     ax.legend(fontsize=7, loc="upper center", bbox_to_anchor=(0.5, -0.13), ncol=2,
               frameon=False)
     fig.tight_layout()
-    out = write_atomically(Path(path), lambda tmp: fig.savefig(tmp, format="png", bbox_inches="tight"))
+    out = write_atomically(Path(path),
+                           lambda tmp: fig.savefig(tmp, format="png", bbox_inches="tight"))
     plt.close(fig)
     return out
 
@@ -68,6 +69,7 @@ def plot_sensitivity(path: str | Path, study) -> Path:
     ax.set_title(f"Sensitivity: {best.name if best else ''}", fontsize=9)
     ax.legend(fontsize=8)
     fig.tight_layout()
-    out = write_atomically(Path(path), lambda tmp: fig.savefig(tmp, format="png", bbox_inches="tight"))
+    out = write_atomically(Path(path),
+                           lambda tmp: fig.savefig(tmp, format="png", bbox_inches="tight"))
     plt.close(fig)
     return out

@@ -11,6 +11,8 @@ Silla, *Chemical Process Engineering: Design and Economics*, 2003, p. 76.
 
 from __future__ import annotations
 
+import math
+
 
 def capital_recovery_factor(discount_rate: float, life_years: float) -> float:
     """Capital recovery factor i (1+i)^n / ((1+i)^n - 1) [1/year].
@@ -22,10 +24,11 @@ def capital_recovery_factor(discount_rate: float, life_years: float) -> float:
     life_years : float
         Economic life n [year].
     """
-    if discount_rate == 0.0:
+    # (1+i)^n - 1 through expm1/log1p stays accurate for small rates
+    excess = math.expm1(life_years * math.log1p(discount_rate))
+    if discount_rate == 0.0 or excess == 0.0:
         return 1.0 / life_years
-    growth = (1.0 + discount_rate) ** life_years
-    return discount_rate * growth / (growth - 1.0)
+    return discount_rate * (1.0 + excess) / excess
 
 
 def scaled_capital_cost(reference_cost: float, size, reference_size: float,

@@ -145,7 +145,7 @@ def equilibrium_extents_kmol_h(inlet_kmol_h: np.ndarray, stoichiometry: np.ndarr
     scale = n0.sum()
     # Trace amounts keep the logarithms finite for products absent at the inlet;
     # they are far below the balance tolerance of the loop.
-    floor = 1e-13 * scale
+    floor = max(1e-13 * scale, 1e-300)
 
     def residual(xi):
         n = n0 + nu.T @ xi
@@ -161,7 +161,7 @@ def equilibrium_extents_kmol_h(inlet_kmol_h: np.ndarray, stoichiometry: np.ndarr
         if fa * fb > 0:
             return np.array([b if fa < 0 else a])
         return np.array([brentq(lambda x: residual(np.array([x]))[0], a, b,
-                                xtol=1e-14 * scale, rtol=1e-14, maxiter=200)])
+                                xtol=max(1e-14 * scale, 1e-300), rtol=1e-14, maxiter=200)])
 
     xi = np.zeros(nu.shape[0])
     for _ in range(200):
