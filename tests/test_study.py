@@ -96,3 +96,19 @@ def _stable(doc):
 def test_same_case_twice_gives_identical_results(study):
     again = run_study(validate_case_dict(_raw()), "sha")
     assert _stable(study_document(again)) == _stable(study_document(study))
+
+
+def test_explicit_alternatives_and_exclusions():
+    """A case may list alternatives itself, or exclude combinations of choices."""
+    from purgeplan.case import expand_alternatives
+
+    raw = _raw()
+    raw["exclude"] = [{"makeup_grade": "purified", "recovery": "membrane"}]
+    names = [n for n, _, _ in expand_alternatives(validate_case_dict(raw))]
+    assert len(names) == 6 and not any("purified" in n and "membrane" in n for n in names)
+    raw = _raw()
+    raw["alternatives"] = [{"name": "present plant", "choices": {
+        "makeup_grade": "standard", "purge_destination": "fuel", "recovery": "none"}}]
+    (name, choices, case), = expand_alternatives(validate_case_dict(raw))
+    assert name == "present plant" and case.purge.recovery == "none"
+    assert case.makeup_sources == ["standard"]
