@@ -61,6 +61,7 @@ class Source:
     supply_limit_kmol_h: float | None
     enters: str                         # "makeup" | "reactor_feed"
     compression_work_kj_kmol: float     # isentropic, supply to loop pressure
+    temperature_c: float
 
 
 @dataclass(frozen=True)
@@ -120,6 +121,7 @@ class Loop:
     pressure_bar: float
     pressure_drop_bar: float
     reactor_temperature_k: float
+    separator_temperature_k: float
     space_velocity_per_h: float
     recycle_inlet_temperature_k: float
     recycle_efficiency: float
@@ -271,7 +273,8 @@ def build_loop(case: Case, name: str = "") -> Loop:
                 s.temperature_c + KELVIN, loop_p / s.supply_pressure_bar, gamma,
                 comp_spec.makeup_stages)
         sources.append(Source(sname, {c: s.composition.get(c, 0.0) for c in comps},
-                              s.price_per_kmol, s.supply_limit_kmol_h, s.enters, work))
+                              s.price_per_kmol, s.supply_limit_kmol_h, s.enters, work,
+                              s.temperature_c))
 
     split = case.separator.liquid_fraction
     condensing = next((c for c, v in split.items() if v == "condensation"), None)
@@ -330,6 +333,7 @@ def build_loop(case: Case, name: str = "") -> Loop:
                            for r in case.loop.inlet_ratios),
         pressure_bar=loop_p, pressure_drop_bar=case.loop.pressure_drop_bar,
         reactor_temperature_k=case.reactor.temperature_c + KELVIN,
+        separator_temperature_k=case.separator.temperature_c + KELVIN,
         space_velocity_per_h=case.reactor.space_velocity_per_h,
         recycle_inlet_temperature_k=comp_spec.recycle_inlet_temperature_c + KELVIN,
         recycle_efficiency=comp_spec.recycle_efficiency,
@@ -496,6 +500,29 @@ def product_t_h(v: LoopVariables, loop: Loop):
 
 def recovery_feed_kmol_h(v: LoopVariables, loop: Loop):
     return sum(v.flow["purge", c] for c in loop.components)
+
+
+def stream_conditions(loop: Loop) -> dict[str, tuple[float, float]]:
+    """Pressure [bar abs] and temperature [degC] of every stream.
+
+    The make-up and direct feeds after compression (or pumping) to loop
+    pressure at their supply temperature, the reactor at its (isothermal)
+    temperature and loop pressure, the separator and everything leaving it
+    at separator temperature and loop pressure less the loop pressure drop,
+    the recycle after its compressor (at its inlet temperature, aftercooled).
+    """
+    p, t_sep = loop.pressure_bar, loop.separator_temperature_k - KELVIN
+    low = p - loop.pressure_drop_bar
+    t_reactor = loop.reactor_temperature_k - KELVIN
+    feeds = {g: [s for s in loop.sources if s.enters == g] for g in ("makeup", "reactor_feed")}
+    out = {
+        "makeup": (p, min((s.temperature_c for s in feeds["makeup"]), default=t_sep)),
+        "liquid_feed": (p, min((s.temperature_c for s in feeds["reactor_feed"]), default=t_sep)),
+        "reactor_feed": (p, t_reactor), "reactor_outlet": (p, t_reactor),
+        "liquid_product": (low, t_sep), "separator_vapour": (low, t_sep), "purge": (low, t_sep),
+        "recycle": (p, loop.recycle_inlet_temperature_k - KELVIN),
+        "recovery_return": (low, t_sep), "recovery_tail_gas": (low, t_sep)}
+    return {s: out[s] for s in loop.streams}
 
 
 # ---------------------------------------------------------------------------

@@ -12,7 +12,7 @@ import math
 from pathlib import Path
 
 from .. import __version__
-from ..loop import Loop
+from ..loop import Loop, stream_conditions
 from ..solve import Optimum
 from .atomic import write_atomically
 
@@ -58,6 +58,9 @@ def alternative_record(name: str, loop: Loop, opt: Optimum, choices: dict | None
                        "equilibrium_conversion": s.equilibrium_conversion.get(i),
                        "extent_kmol_h": s.extents[i]} for i, r in enumerate(loop.reactions)],
         "streams": s.flows,
+        "stream_conditions": {name: {"pressure_bar": pc[0], "temperature_c": pc[1],
+                                     "total_kmol_h": sum(s.flows[name].values())}
+                              for name, pc in stream_conditions(loop).items()},
         "quantities": dict(s.quantities),
         "balance_error": s.balance_error,
         "binding_constraints": list(opt.binding_constraints),

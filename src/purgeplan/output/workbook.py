@@ -39,6 +39,7 @@ from openpyxl.workbook.defined_name import DefinedName
 from openpyxl.worksheet.worksheet import Worksheet
 
 from .. import costs
+from ..loop import stream_conditions
 from ..study import Alternative, StudyResult
 from .atomic import write_atomically
 
@@ -89,9 +90,6 @@ STREAM_LABELS = {
     "recovery_return": "Recovery return",
     "recovery_tail_gas": "Recovery tail gas",
 }
-#: Streams inside the high-pressure loop (the make-up after its compressor).
-LOOP_PRESSURE_STREAMS = {"makeup", "reactor_feed", "reactor_outlet", "liquid_product",
-                         "separator_vapour", "purge", "recycle"}
 
 FMT_MONEY = "#,##0"
 FMT_MONEY_2 = "#,##0.00"
@@ -665,11 +663,12 @@ def _streams_sheet(ws: Worksheet, study: StudyResult, refs: _Refs) -> None:
                     + [f"{STREAM_LABELS.get(s, s)} [{unit}]" for s in streams])
             row += 1
             if unit == "kmol/h":
-                _text(ws, row, 1, "Pressure [bar abs]")
-                for j, s in enumerate(streams, start=2):
-                    if s in LOOP_PRESSURE_STREAMS:
-                        _number(ws, row, j, loop.pressure_bar, "0.0")
-                row += 1
+                conditions = stream_conditions(loop)
+                for k, label in enumerate(("Pressure [bar abs]", "Temperature [degC]")):
+                    _text(ws, row, 1, label)
+                    for j, s in enumerate(streams, start=2):
+                        _number(ws, row, j, conditions[s][k], "0.0")
+                    row += 1
             fmt = FMT_QUANTITY if unit == "kmol/h" else FMT_FRACTION
             for label, numbers in values:
                 _text(ws, row, 1, label, bold=label == "Total")
