@@ -192,7 +192,7 @@ def _extremes():
     raw = _demo_raw()
     raw["reactions"][0]["approach_to_equilibrium"] = 0.999
     cases["close to equilibrium"] = raw
-    for t_d in (0.5, 20000.0):
+    for t_d in (1e-3, 0.5, 20000.0):  # the smallest plant the case schema accepts, and more
         raw = _demo_raw()
         raw["loop"]["production_t_d"] = t_d
         cases[f"{t_d:g} t/d"] = raw

@@ -13,6 +13,7 @@ import difflib
 import hashlib
 import itertools
 import json
+import re
 import tomllib
 import typing
 from pathlib import Path
@@ -22,13 +23,32 @@ from pydantic import BaseModel, ConfigDict, Field, ValidationError, model_valida
 
 from .errors import CaseError
 
+
+def _num(**bounds):
+    """A finite number (an int is taken as a float, a boolean is refused) within bounds."""
+    return Annotated[float, Field(allow_inf_nan=False, strict=True, **bounds)]
+
+
 #: Magnitudes outside [1e-9, 1e12] are typing errors for every quantity of a loop
 #: study (flows, prices, sizes, costs); refusing them keeps the numerics sound.
-Positive = Annotated[float, Field(ge=1e-9, le=1e12, allow_inf_nan=False)]
-NonNegative = Annotated[float, Field(ge=0, le=1e12, allow_inf_nan=False)]
-Finite = Annotated[float, Field(ge=-1e12, le=1e12, allow_inf_nan=False)]
-OpenFraction = Annotated[float, Field(gt=0, lt=1, allow_inf_nan=False)]
-Fraction = Annotated[float, Field(ge=0, le=1, allow_inf_nan=False)]
+Positive = _num(ge=1e-9, le=1e12)
+NonNegative = _num(ge=0, le=1e12)
+Finite = _num(ge=-1e12, le=1e12)
+OpenFraction = _num(gt=0, lt=1)
+Fraction = _num(ge=0, le=1)
+UpToOne = _num(gt=0, le=1)
+ReactorTemperatureC = _num(gt=-273.15, lt=2000)
+SpaceVelocityPerH = _num(ge=1, le=1e6)
+PressureBar = _num(gt=0, lt=2000)
+PressureDropBar = _num(ge=1e-3, le=1000)
+ProductionTD = _num(ge=1e-3, le=1e6)
+MakeupKmolH = _num(ge=1e-3, le=1e8)
+TemperatureC = _num(gt=-273.15, lt=1000)
+CapacityExponent = _num(gt=0, le=1.5)
+HoursPerYear = _num(gt=0, le=8784)
+RatePerYear = _num(ge=0, lt=1)
+LifeYears = _num(ge=1, le=100)
+CatalystLifeYears = _num(ge=0.01, le=100)
 Name = Annotated[str, Field(min_length=1, max_length=200)]
 
 MAX_CASE_BYTES = 2_000_000
@@ -75,14 +95,14 @@ class ReactionSpec(_Strict):
     key_reactant: Name
     per_pass: Literal["fixed", "equilibrium", "sized"] = "fixed"
     per_pass_conversion: OpenFraction | None = None
-    approach_to_equilibrium: Annotated[float, Field(gt=0, le=1, allow_inf_nan=False)] | None = None
+    approach_to_equilibrium: UpToOne | None = None
     equilibrium: EquilibriumSpec | None = None
     sizing: SizingSpec | None = None
 
 
 class ReactorSpec(_Strict):
-    temperature_c: Annotated[float, Field(gt=-273.15, lt=2000, allow_inf_nan=False)]
-    space_velocity_per_h: Annotated[float, Field(ge=1, le=1e6, allow_inf_nan=False)] = 10000.0
+    temperature_c: ReactorTemperatureC
+    space_velocity_per_h: SpaceVelocityPerH = 10000.0
 
 
 class InletRatio(_Strict):
@@ -92,12 +112,12 @@ class InletRatio(_Strict):
 
 
 class LoopSpec(_Strict):
-    pressure_bar: Annotated[float, Field(gt=0, lt=2000, allow_inf_nan=False)]
-    pressure_drop_bar: Annotated[float, Field(ge=1e-3, le=1000, allow_inf_nan=False)]
+    pressure_bar: PressureBar
+    pressure_drop_bar: PressureDropBar
     basis: Literal["production", "makeup"] = "production"
     product: Name
-    production_t_d: Positive | None = None
-    makeup_kmol_h: Positive | None = None
+    production_t_d: ProductionTD | None = None
+    makeup_kmol_h: MakeupKmolH | None = None
     purge_fraction: OpenFraction = 0.02
     purge_fraction_min: OpenFraction = 1e-4
     purge_fraction_max: OpenFraction = 0.5
@@ -107,7 +127,7 @@ class LoopSpec(_Strict):
 
 
 class SeparatorSpec(_Strict):
-    temperature_c: Annotated[float, Field(gt=-273.15, lt=1000, allow_inf_nan=False)]
+    temperature_c: TemperatureC
     liquid_fraction: dict[Name, Fraction | Literal["condensation"]]
 
 
@@ -115,7 +135,7 @@ class SourceSpec(_Strict):
     composition: dict[Name, Fraction]
     price_per_kmol: NonNegative
     supply_pressure_bar: Positive
-    temperature_c: Annotated[float, Field(gt=-273.15, lt=1000, allow_inf_nan=False)] = 40.0
+    temperature_c: TemperatureC = 40.0
     supply_limit_kmol_h: Positive | None = None
     enters: Literal["makeup", "reactor_feed"] = "makeup"
 
@@ -123,15 +143,14 @@ class SourceSpec(_Strict):
 class CompressionSpec(_Strict):
     recycle_efficiency: OpenFraction = 0.75
     makeup_efficiency: OpenFraction = 0.75
-    makeup_stages: Annotated[int, Field(ge=1, le=12)] = 3
-    recycle_inlet_temperature_c: Annotated[float, Field(gt=-273.15, lt=1000,
-                                                        allow_inf_nan=False)] = 35.0
+    makeup_stages: Annotated[int, Field(ge=1, le=12, strict=True)] = 3
+    recycle_inlet_temperature_c: TemperatureC = 35.0
 
 
 class CapitalItem(_Strict):
     reference_cost: Positive
     reference_size: Positive
-    exponent: Annotated[float, Field(gt=0, le=1.5, allow_inf_nan=False)] = 0.6
+    exponent: CapacityExponent = 0.6
 
 
 class RecoveryUnitSpec(_Strict):
@@ -147,9 +166,9 @@ class PurgeSpec(_Strict):
 
 class EconomicsSpec(_Strict):
     currency: Annotated[str, Field(min_length=1, max_length=12)] = "EUR"
-    hours_per_year: Annotated[float, Field(gt=0, le=8784, allow_inf_nan=False)] = 8000.0
-    discount_rate: Annotated[float, Field(ge=0, lt=1, allow_inf_nan=False)] = 0.08
-    life_years: Annotated[float, Field(ge=1, le=100, allow_inf_nan=False)] = 20.0
+    hours_per_year: HoursPerYear = 8000.0
+    discount_rate: RatePerYear = 0.08
+    life_years: LifeYears = 20.0
     cost_index_ratio: Positive = 1.0
     power_price_per_kwh: NonNegative
     fuel_price_per_gj: NonNegative = 0.0
@@ -158,8 +177,8 @@ class EconomicsSpec(_Strict):
     compressor_capital: CapitalItem
     reactor_capital: CapitalItem
     catalyst_price_per_m3: NonNegative = 0.0
-    catalyst_life_years: Annotated[float, Field(ge=0.01, le=100, allow_inf_nan=False)] = 5.0
-    sensitivity_fraction: Annotated[float, Field(gt=0, lt=1, allow_inf_nan=False)] = 0.2
+    catalyst_life_years: CatalystLifeYears = 5.0
+    sensitivity_fraction: OpenFraction = 0.2
 
 
 class AlternativeSpec(_Strict):
@@ -214,14 +233,14 @@ def check_case(case: Case) -> None:
         if name not in comps:
             hint = difflib.get_close_matches(name, known, n=1)
             fix = f"; did you mean '{hint[0]}'?" if hint else f"; declared components: {known}"
-            raise _Located(path, f"unknown component '{name}'{fix}")
+            raise _Located(path, f"unknown component {name!r}{fix}")
 
     for i, r in enumerate(case.reactions):
         base = f"reactions[{i}]"
         for c, nu in r.stoichiometry.items():
-            need_component(f"{base}.stoichiometry.{c}", c)
+            need_component(f"{base}.stoichiometry.{_key(c)}", c)
             if nu == 0:
-                raise _Located(f"{base}.stoichiometry.{c}", "coefficient 0: leave it out")
+                raise _Located(f"{base}.stoichiometry.{_key(c)}", "coefficient 0: leave it out")
         need_component(f"{base}.key_reactant", r.key_reactant)
         if r.stoichiometry.get(r.key_reactant, 0) >= 0:
             raise _Located(f"{base}.key_reactant",
@@ -265,20 +284,20 @@ def check_case(case: Case) -> None:
 
     condensing = [c for c, v in case.separator.liquid_fraction.items() if v == "condensation"]
     for c in case.separator.liquid_fraction:
-        need_component(f"separator.liquid_fraction.{c}", c)
+        need_component(f"separator.liquid_fraction.{_key(c)}", c)
     if len(condensing) > 1:
         raise _Located("separator.liquid_fraction",
                        f"only one component may condense, found {condensing}")
     product_split = case.separator.liquid_fraction.get(loop.product, 0.0)
     if product_split == 0.0:
-        raise _Located(f"separator.liquid_fraction.{loop.product}",
+        raise _Located(f"separator.liquid_fraction.{_key(loop.product)}",
                        "the product must leave with the liquid: give a fraction above 0 "
                        "or 'condensation'")
 
     for name, src in case.sources.items():
-        base = f"sources.{name}"
+        base = f"sources.{_key(name)}"
         for c in src.composition:
-            need_component(f"{base}.composition.{c}", c)
+            need_component(f"{base}.composition.{_key(c)}", c)
         total = sum(src.composition.values())
         if abs(total - 1.0) > 1e-6:
             raise _Located(f"{base}.composition",
@@ -309,22 +328,23 @@ def check_case(case: Case) -> None:
                        "or 'none'")
     for name, unit in case.recovery_units.items():
         for c in unit.return_fraction:
-            need_component(f"recovery_units.{name}.return_fraction.{c}", c)
+            need_component(f"recovery_units.{_key(name)}.return_fraction.{_key(c)}", c)
 
     for opt, choices in case.options.items():
         if not choices:
-            raise _Located(f"options.{opt}", "an option needs at least one choice")
+            raise _Located(f"options.{_key(opt)}", "an option needs at least one choice")
     for i, alt in enumerate(case.alternatives):
         for opt, choice in alt.choices.items():
             if opt not in case.options:
-                raise _Located(f"alternatives[{i}].choices.{opt}", f"unknown option '{opt}'")
+                raise _Located(f"alternatives[{i}].choices.{_key(opt)}", f"unknown option '{opt}'")
             if choice not in case.options[opt]:
-                raise _Located(f"alternatives[{i}].choices.{opt}",
+                raise _Located(f"alternatives[{i}].choices.{_key(opt)}",
                                f"unknown choice '{choice}'; options: {sorted(case.options[opt])}")
     for i, ex in enumerate(case.exclude):
         for opt, choice in ex.items():
             if opt not in case.options or choice not in case.options[opt]:
-                raise _Located(f"exclude[{i}].{opt}", f"no such option choice '{opt} = {choice}'")
+                raise _Located(f"exclude[{i}].{_key(opt)}",
+                               f"no such option choice {opt!r} = {choice!r}")
     names = [a.name for a in case.alternatives]
     if len(set(names)) != len(names):
         raise _Located("alternatives", "alternative names must be unique")
@@ -401,7 +421,8 @@ def _case_error(exc: ValidationError, prefix: str = "") -> CaseError:
     """
     errors = exc.errors(include_url=False)
     err = next((e for e in errors if e["type"] == "extra_forbidden"), errors[0])
-    loc = tuple(p for p in err["loc"] if p not in ("function-after",))
+    # pydantic adds the names of union members and validators to locations
+    loc = tuple(p for p in err["loc"] if not (isinstance(p, str) and _TAG.match(p)))
     path = prefix + _path(loc)
     kind = err["type"]
     if kind == "extra_forbidden":
@@ -422,6 +443,8 @@ def _case_error(exc: ValidationError, prefix: str = "") -> CaseError:
         return CaseError(path, f"must be {words} {ctx[key]:g}", value=_short(err.get("input")))
     return CaseError(path, f"{err['msg'].lower()}", value=_short(err.get("input")))
 
+
+_TAG = re.compile(r"^(constrained-\w+|literal\[.*\]|function-\w+|float|int|str|bool)$")
 
 #: Deepest nesting of tables and arrays a case may have.
 MAX_DEPTH = 24

@@ -351,6 +351,9 @@ class LoopLP:
             eq_x = lp.equilibrium_conversions(loop, flows["reactor_feed"])
             vapour = flows["separator_vapour"]
             total = sum(vapour.values())
+            if total <= 0.0:
+                raise SolverFailure("the LP returned no separator vapour: the flows are below "
+                                    "the solver's tolerances")
             new_work = lp.recycle_work_kj_kmol(loop, {c: f / total for c, f in vapour.items()})
             change = abs(new_work - self.work) / max(new_work, 1e-12) if work_matters else 0.0
             new_x = dict(x)
