@@ -118,15 +118,17 @@ def _status_of(optima) -> int:
 def _print_table(rows, currency: str) -> None:
     width = max([len("alternative")] + [len(name) for _, name, _ in rows])
     print(f"{'rank':>4}  {'alternative':<{width}} {'purge fraction':>14} "
-          f"{'inert at inlet':>14} {'TAC ' + currency + '/year':>18} {currency + '/t':>9}")
+          f"{'inert at inlet':>14} {'per pass':>8} {'TAC ' + currency + '/year':>18} "
+          f"{currency + '/t':>9}  binding")
     for rank, name, opt in rows:
         s = opt.state
         if s is None:
             print(f"{'-':>4}  {name:<{width}} {opt.status.value.upper()}: {opt.message}")
             continue
         print(f"{rank if rank else '':>4}  {name:<{width}} {s.purge_fraction:14.6f} "
-              f"{100 * s.inert_fraction_reactor_inlet:13.2f}% {s.tac_per_year:18,.0f} "
-              f"{s.cost_per_tonne_product:9.2f}")
+              f"{100 * s.inert_fraction_reactor_inlet:13.2f}% {s.per_pass_conversion:8.4f} "
+              f"{s.tac_per_year:18,.0f} {s.cost_per_tonne_product:9.2f}  "
+              f"{', '.join(opt.binding_constraints) or '-'}")
 
 
 def cmd_check(args) -> int:
