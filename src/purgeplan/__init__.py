@@ -4,13 +4,25 @@ Feasibility-grade estimates only.  Purge gas is flammable and often toxic
 (hydrogen, ammonia, carbon monoxide) and synthesis loops run at high
 pressure: equipment design, relief and flare systems follow local codes and
 licensed engineering practice.
+
+The public names below are imported on first use, so that the command line
+starts quickly.
 """
+
+from importlib import import_module
 
 __version__ = "0.1.0"
 
-from .case import Case, expand_alternatives, load_case, parse_case_text  # noqa: E402
-from .engine import steady_state  # noqa: E402
-from .loop import build_loop  # noqa: E402
+_PUBLIC = {
+    "Case": "case", "expand_alternatives": "case", "load_case": "case",
+    "parse_case_text": "case", "build_loop": "loop", "steady_state": "engine",
+    "optimise": "solve", "run_study": "study",
+}
 
-__all__ = ["Case", "build_loop", "expand_alternatives", "load_case", "parse_case_text",
-           "steady_state", "__version__"]
+__all__ = [*sorted(_PUBLIC), "__version__"]
+
+
+def __getattr__(name: str):
+    if name in _PUBLIC:
+        return getattr(import_module(f".{_PUBLIC[name]}", __name__), name)
+    raise AttributeError(f"module 'purgeplan' has no attribute {name!r}")

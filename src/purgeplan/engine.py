@@ -141,7 +141,8 @@ class Engine:
             z = np.linalg.solve(a, b)
         except np.linalg.LinAlgError:
             raise NoSteadyStateError(self._why_singular(purge_fraction)) from None
-        if not np.all(np.isfinite(z)) or np.linalg.cond(a) > 1e14:
+        # a nearly singular loop shows as a huge or non-finite solution
+        if not np.all(np.isfinite(z)) or np.abs(z).max() > 1e12 * max(1.0, np.abs(b).max()):
             raise NoSteadyStateError(self._why_singular(purge_fraction))
         return z
 
@@ -211,6 +212,7 @@ def steady_state(loop: Loop, purge_fraction: float | None = None,
     work = None
     eq_x: dict[int, float] = {}
     physical_x = None
+    history: dict[int, list] = {}
     for _ in range(max_iterations):
         z = eng.solve(a, [x[i] for i in range(len(loop.reactions))], shares)
         flows, extents, sources = eng.unpack(z)
@@ -219,15 +221,19 @@ def steady_state(loop: Loop, purge_fraction: float | None = None,
                 raise NoSteadyStateError(_unphysical(flows))
             # an overshooting iterate: step back towards the last physical one
             x = {i: 0.5 * (x[i] + physical_x[i]) for i in x}
+            history.clear()
             continue
         physical_x = dict(x)
         new_work = lp.recycle_work_kj_kmol(loop, _composition(flows["separator_vapour"]))
         eq_x = lp.equilibrium_conversions(loop, flows["reactor_feed"])
         new_x = dict(x)
+        residuals = [0.0]
         for i, xe in eq_x.items():
             if loop.reactions[i].per_pass == "equilibrium":
-                new_x[i] = loop.reactions[i].approach_to_equilibrium * xe
-        change = max([abs(new_x[i] - x[i]) for i in x] + [
+                residual = loop.reactions[i].approach_to_equilibrium * xe - x[i]
+                residuals.append(abs(residual))
+                new_x[i] = secant_step(history.setdefault(i, []), x[i], residual)
+        change = max(residuals + [
             abs(new_work - work) / max(new_work, 1e-12) if work is not None else 1.0])
         x, work = new_x, new_work
         if change < tolerance:
@@ -262,6 +268,17 @@ def initial_conversions(loop: Loop, given: dict[int, float] | None = None) -> di
         else:
             out[i] = 0.5 * r.approach_to_equilibrium
     return out
+
+
+def secant_step(history: list, x: float, residual: float) -> float:
+    """Next iterate of x = x + residual(x) by the secant method over the last two points."""
+    history.append((x, residual))
+    if len(history) >= 2 and history[-1][1] != history[-2][1]:
+        (x0, g0), (x1, g1) = history[-2], history[-1]
+        x = x1 - g1 * (x1 - x0) / (g1 - g0)
+    else:
+        x = x + residual
+    return min(max(x, 1e-9), 0.999999)
 
 
 def _negative(flows) -> list:

@@ -34,7 +34,7 @@ from scipy.optimize import minimize_scalar
 
 from . import costs
 from . import loop as lp
-from .engine import initial_conversions, steady_state
+from .engine import initial_conversions, secant_step, steady_state
 from .errors import InfeasibleError, NoSteadyStateError, SolverFailure
 from .loop import Loop
 from .model import build_model
@@ -370,15 +370,8 @@ class LoopLP:
                 if loop.reactions[i].per_pass != "equilibrium":
                     continue
                 residual = loop.reactions[i].approach_to_equilibrium * xe - x[i]
-                h = history.setdefault(i, [])
-                h.append((x[i], residual))
                 change = max(change, abs(residual))
-                if len(h) >= 2 and h[-1][1] != h[-2][1]:
-                    (x0, g0), (x1, g1) = h[-2], h[-1]
-                    new_x[i] = x1 - g1 * (x1 - x0) / (g1 - g0)
-                else:
-                    new_x[i] = x[i] + residual
-                new_x[i] = min(max(new_x[i], 1e-9), 0.999999)
+                new_x[i] = secant_step(history.setdefault(i, []), x[i], residual)
             state = None
             if change < self.tolerance:
                 state = make_state(loop, purge_fraction, x, flows, extents, sources,
