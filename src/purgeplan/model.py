@@ -3,9 +3,11 @@
 The constraints are the equation families of :mod:`purgeplan.loop`, one Pyomo
 ``Constraint`` per family, named after it (``m.mixer_balance``,
 ``m.purge_split``, ...), plus the limits a case may set.  The purge fraction
-``m.purge_fraction`` and per-pass conversions ``m.conversion`` are variables;
-the reduced-space strategy of :mod:`purgeplan.solve` fixes them, which leaves a
-linear programme for HiGHS, while a global solver may take them free.
+``m.purge_fraction`` and per-pass conversions ``m.conversion`` are the design
+variables.  For the reduced-space strategy of :mod:`purgeplan.solve` they are
+built as mutable parameters (``design="fixed"``), which leaves a linear
+programme for HiGHS whose coefficients change in place between re-solves; a
+global solver gets them as variables (``design="free"``).
 
 Coefficients that depend on the state (recycle work from the gas's heat
 capacity ratio, catalyst volume per feed) are mutable parameters.  With
@@ -83,7 +85,8 @@ def add_costs(m: pyo.ConcreteModel, loop: Loop, q: dict, capital: str) -> None:
     m.tac = pyo.Objective(expr=sum(m.cost[k] for k in m.COST), sense=pyo.minimize)
 
 
-def build_model(loop: Loop, capital: str = "tangent") -> pyo.ConcreteModel:
+def build_model(loop: Loop, capital: str = "tangent", design: str = "fixed"
+                ) -> pyo.ConcreteModel:
     """The Pyomo model of one alternative with the design variables fixed.
 
     Parameters
@@ -91,6 +94,9 @@ def build_model(loop: Loop, capital: str = "tangent") -> pyo.ConcreteModel:
     loop : Loop
     capital : {"tangent", "exact"}
         How capital lines enter the objective (see the module docstring).
+    design : {"fixed", "free"}
+        Purge fraction and conversions as mutable parameters, or as variables
+        (the purge fraction bounded by the case, fixed until unfixed).
     """
     m = pyo.ConcreteModel(name=loop.name)
     pairs = [(s, c) for s in loop.streams for c in loop.components]
@@ -100,11 +106,15 @@ def build_model(loop: Loop, capital: str = "tangent") -> pyo.ConcreteModel:
     m.flow = pyo.Var(m.FLOW, domain=pyo.NonNegativeReals, initialize=1.0)
     m.extent = pyo.Var(m.REACTION, initialize=1.0)
     m.source = pyo.Var(m.SOURCE, domain=pyo.NonNegativeReals, initialize=1.0)
-    m.purge_fraction = pyo.Var(bounds=(loop.purge_fraction_min, loop.purge_fraction_max),
-                               initialize=loop.purge_fraction)
-    m.conversion = pyo.Var(m.REACTION, bounds=(0.0, 1.0), initialize=0.2)
-    m.purge_fraction.fix(loop.purge_fraction)
-    m.conversion.fix()
+    if design == "fixed":
+        m.purge_fraction = pyo.Param(mutable=True, initialize=loop.purge_fraction)
+        m.conversion = pyo.Param(m.REACTION, mutable=True, initialize=0.2)
+    else:
+        m.purge_fraction = pyo.Var(bounds=(loop.purge_fraction_min, loop.purge_fraction_max),
+                                   initialize=loop.purge_fraction)
+        m.conversion = pyo.Var(m.REACTION, bounds=(0.0, 1.0), initialize=0.2)
+        m.purge_fraction.fix(loop.purge_fraction)
+        m.conversion.fix()
     # state-dependent coefficients, set by the solve layer before every solve
     m.recycle_work_kj_kmol = pyo.Param(mutable=True, initialize=1000.0)
     m.volume_per_feed = pyo.Param(mutable=True, initialize=1.0)

@@ -118,10 +118,11 @@ class LoopLP:
         self.solver.config.load_solutions = False
         self.solver.config.raise_exception_on_nonoptimal_result = False
         auto = self.solver.config.auto_updates
-        # Between solves only fixed-variable values and parameters change.
+        # Between solves only parameter values change.
         for name in ("check_for_new_or_removed_constraints", "check_for_new_or_removed_vars",
                      "check_for_new_or_removed_params", "check_for_new_objective",
-                     "update_constraints", "update_named_expressions", "update_objective"):
+                     "update_constraints", "update_vars", "update_named_expressions",
+                     "update_objective"):
             setattr(auto, name, False)
         self.states: dict[tuple, LoopState | None] = {}
         self.margins: dict[tuple, float] = {}
@@ -323,7 +324,7 @@ class LoopLP:
         """
         loop, m = self.loop, self.model
         key = (purge_fraction, sized_conversion)
-        m.purge_fraction.fix(purge_fraction)
+        m.purge_fraction = purge_fraction
         x = self._predict(purge_fraction)
         if sized_conversion is not None:
             x[loop.sized_reaction] = sized_conversion
@@ -337,7 +338,7 @@ class LoopLP:
         history: dict[int, list] = {}
         for _ in range(max_iterations):
             for i, xi in x.items():
-                m.conversion[i].fix(xi)
+                m.conversion[i] = xi
             m.recycle_work_kj_kmol = self.work
             m.volume_per_feed = lp.volume_per_feed(loop, x)
             if not (math.isfinite(self.work) and math.isfinite(pyo.value(m.volume_per_feed))):
@@ -735,7 +736,7 @@ def solve_exact_with(loop: Loop, solver_name: str = "scip_direct", **options):
     opt = optimise(loop)
     if not opt.feasible:
         raise InfeasibleError(opt.message)
-    m = build_model(loop, capital="exact")
+    m = build_model(loop, capital="exact", design="free")
     m.recycle_work_kj_kmol = opt.state.recycle_work_kj_kmol
     m.volume_per_feed = opt.state.volume_per_feed_m3_h_kmol
     for i, x in opt.state.conversion.items():
