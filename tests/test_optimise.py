@@ -200,6 +200,9 @@ def test_time_limit_and_solver_fault_are_reported(monkeypatch):
 
 
 # -- comparative statics (economics of the trade: what each price does to the purge) --------
+# The direction of each effect is common practice in purge design (no single published
+# source is cited): dearer make-up gas favours a smaller purge, a larger fuel credit and
+# more inert in the make-up favour a larger one, dearer recycle power favours a larger one.
 
 def _statics_loop():
     name, loop = next((n, lp) for n, lp in _alternatives("ammonia_demo.toml")
