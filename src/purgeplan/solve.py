@@ -131,6 +131,7 @@ class LoopLP:
         self.converged: list[tuple[float, dict]] = []
         self.solver_options = {"output_flag": False, **(solver_options or {})}
         self._columns = None
+        self._entries = None
         self.solves = 0
         self.started = time.perf_counter()
         self.time_limit_s = time_limit_s
@@ -180,6 +181,8 @@ class LoopLP:
         if status is Status.OPTIMAL:
             result.solution_loader.load_vars()
         self._columns = self._column_map()
+        if self._columns is not None and not self.blend_free:
+            self._entries = self._design_entries()
         return status, result.termination_condition
 
     def _column_map(self):
@@ -197,12 +200,65 @@ class LoopLP:
         m = self.model
         return list(m.flow.values()) + list(m.extent.values()) + list(m.source.values())
 
+    def _design_entries(self):
+        """The LP entries that the purge fraction and the conversions set, or None.
+
+        Taken from the engine's compiled form of the same loop equations
+        (A = A0 + a A_a + sum_r X_r A_r): a list of (HiGHS row, HiGHS column,
+        engine row, engine column).  With no freedom left in the LP only these
+        entries change between re-solves (the objective and the relaxed limits
+        cannot move its single feasible point), so they are written straight
+        into HiGHS.  The entries are checked once against the matrix HiGHS
+        holds; on any mismatch re-solves go through ``update()`` instead.
+        """
+        from .engine import engine_for
+
+        m = self.model
+        eng = engine_for(self.loop)
+        constraints = [con for family in lp.EQUATION_FAMILIES
+                       if (block := m.component(family.__name__)) is not None
+                       for con in block.values()]
+        variables = []
+        for key in eng.keys:
+            if key[0] == "flow":
+                variables.append(m.flow[key[1], key[2]])
+            else:
+                variables.append((m.extent if key[0] == "extent" else m.source)[key[1]])
+        if len(constraints) != eng.a0.shape[0] or len(variables) != eng.a0.shape[1]:
+            return None
+        rows = self.solver._pyomo_con_to_solver_con_map
+        cols = self.solver._pyomo_var_to_solver_var_map
+        moving = np.abs(eng.a_purge) + sum((np.abs(a) for a in eng.a_conv), 0 * eng.a_purge)
+        entries = [(rows[constraints[r]], cols[id(variables[j])], r, j)
+                   for r, j in zip(*np.nonzero(moving), strict=True)]
+        matrix = self.solver._solver_model.getLp().a_matrix_
+        held = {}
+        for col in range(len(matrix.start_) - 1):
+            for k in range(matrix.start_[col], matrix.start_[col + 1]):
+                held[matrix.index_[k], col] = matrix.value_[k]
+        if any(abs(held.get((row, col), 0.0) - self._coefficient(eng, r, j)) > 1e-12
+               for row, col, r, j in entries):
+            return None
+        self._engine = eng
+        return entries
+
+    def _coefficient(self, eng, r: int, j: int) -> float:
+        m = self.model
+        value = eng.a0[r, j] + pyo.value(m.purge_fraction) * eng.a_purge[r, j]
+        for i, a in enumerate(eng.a_conv):
+            value += pyo.value(m.conversion[i]) * a[r, j]
+        return float(value)
+
     def _rerun(self, options: dict):
         import highspy
 
         highs = self.solver._solver_model
         highs.HandleKeyboardInterrupt = True  # Ctrl-C and SIGTERM reach Python during a solve
-        self.solver.update()
+        if self._entries is not None:
+            for row, col, r, j in self._entries:
+                highs.changeCoeff(row, col, self._coefficient(self._engine, r, j))
+        else:
+            self.solver.update()
         for key, value in options.items():
             highs.setOptionValue(key, value)
         highs.run()
