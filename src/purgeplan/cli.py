@@ -320,8 +320,8 @@ def main(argv: list[str] | None = None) -> int:
 
     try:
         with warnings.catch_warnings():
-            # numerical warnings of the libraries would break the one-line contract
-            warnings.simplefilter("ignore", RuntimeWarning)
+            # library warnings would break the one-line contract of the messages
+            warnings.simplefilter("ignore")
             return COMMANDS[args.command](args)
     except CaseError as exc:
         return _fail(str(exc), EXIT_BAD_INPUT)

@@ -35,8 +35,11 @@ def plot_cost_curves(path: str | Path, study) -> Path:
     ax.set_ylabel(f"Total annualised cost [million {study.currency}/year]")
     ax.set_title("Cost curves (dots: optimum of each alternative)")
     ax.grid(True, which="both", alpha=0.3)
-    ax.legend(fontsize=7, loc="upper center", bbox_to_anchor=(0.5, -0.13), ncol=2,
-              frameon=False)
+    if ax.lines:
+        ax.legend(fontsize=7, loc="upper center", bbox_to_anchor=(0.5, -0.13), ncol=2,
+                  frameon=False)
+    else:
+        ax.text(0.5, 0.5, "no feasible alternative", transform=ax.transAxes, ha="center")
     fig.tight_layout()
     out = write_atomically(Path(path),
                            lambda tmp: fig.savefig(tmp, format="png", bbox_inches="tight"))
