@@ -152,6 +152,8 @@ class LoopLP:
         if status is Status.FAILED:
             highs = getattr(self.solver, "_solver_model", None)
             if highs is not None:
+                log.warning("%s: HiGHS stopped with %s on a warm start; solving again cold",
+                            self.loop.name, getattr(condition, "name", condition))
                 highs.clearSolver()
                 status, condition = self._run()
         if status is Status.OPTIMAL or status is Status.INFEASIBLE:
@@ -622,6 +624,8 @@ def optimise(loop: Loop, *, scan_points: int = 17, xtol_rel: float = 1e-6,
                f"{s['conversion_max']:g}] at each purge fraction" if k is not None else "")
             + f"; HiGHS LP at every point ({info.solves} solves), inner fixed point on "
             f"per-pass conversion and recycle work to {LoopLP.tolerance:g}")
+        log.debug("%s: optimum at purge fraction %.6g after %d solves in %.3f s", loop.name,
+                  state.purge_fraction, info.solves, info.seconds)
         return Optimum(loop.name, True, Status.OPTIMAL, "optimal", state, binding, curve, info,
                        off)
     except InfeasibleError as exc:

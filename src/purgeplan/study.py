@@ -83,6 +83,7 @@ def run_task(task: Task) -> tuple[tuple, object]:
         return task.key, optimise(task.loop, time_limit_s=task.time_limit_s,
                                   details=task.details)
     solver = LoopLP(task.loop)
+    # the base optimum again, in this worker, so that its converged states can be re-priced
     optimise(task.loop, details=False, reuse=solver)
     return task.key, {key: optimise(loop, details=False, reuse=solver,
                                     time_limit_s=task.time_limit_s)

@@ -270,6 +270,17 @@ def _title(ws: Worksheet, row: int, text: str) -> None:
     _text(ws, row, 1, text).font = _TITLE
 
 
+def _section(ws: Worksheet, row: int, title: str, rows) -> int:
+    """A bold title, then one row per tuple of texts; returns the row after a blank line."""
+    _text(ws, row, 1, title, bold=True)
+    row += 1
+    for texts in rows:
+        for col, text in enumerate(texts, start=1):
+            _text(ws, row, col, text)
+        row += 1
+    return row + 1
+
+
 def _widths(ws: Worksheet, widths: dict[str, float]) -> None:
     for letter, width in widths.items():
         ws.column_dimensions[letter].width = width
@@ -905,17 +916,11 @@ def _notes_sheet(ws: Worksheet, study: StudyResult, refs: _Refs) -> None:
     """Method, solver status, provenance, units and the cautions."""
     _title(ws, 1, "Notes")
     ws.freeze_panes = "A2"
-    row = 3
-    _text(ws, row, 1, "Study", bold=True)
-    row += 1
-    for label, value in (("Case", study.case_name), ("Case file SHA-256", study.case_sha256),
-                         ("Tool", f"purgeplan {study.tool_version}"),
-                         ("Created (UTC)", study.created), ("Currency", study.currency),
-                         ("Sensitivity step", f"+/- {100 * study.sensitivity_fraction:g} %")):
-        _text(ws, row, 1, label)
-        _text(ws, row, 2, value)
-        row += 1
-    row += 1
+    row = _section(ws, 3, "Study", (
+        ("Case", study.case_name), ("Case file SHA-256", study.case_sha256),
+        ("Tool", f"purgeplan {study.tool_version}"), ("Created (UTC)", study.created),
+        ("Currency", study.currency),
+        ("Sensitivity step", f"+/- {100 * study.sensitivity_fraction:g} %")))
     _text(ws, row, 1, "Method and solver status per alternative", bold=True)
     row += 1
     _header(ws, row, ["Alternative", "Name", "Solver", "Status", "Solves", "Seconds [s]",
@@ -932,10 +937,7 @@ def _notes_sheet(ws: Worksheet, study: StudyResult, refs: _Refs) -> None:
         _text(ws, row, 7, info.method, wrap=True)
         _text(ws, row, 8, alt.optimum.message, wrap=True)
         row += 1
-    row += 1
-    _text(ws, row, 1, "How the costs are built", bold=True)
-    row += 1
-    for line in (
+    row = _section(ws, row + 1, "How the costs are built", [(line,) for line in (
         "hourly lines: sign x quantity [unit/h] x price [currency/unit] x hours_per_year.",
         "capital lines: CRF x reference_cost x cost_index_ratio x (quantity / reference_size)"
         "^exponent; CRF = i (1+i)^n / ((1+i)^n - 1), 1/n at i = 0 (Peters, Timmerhaus and "
@@ -945,21 +947,7 @@ def _notes_sheet(ws: Worksheet, study: StudyResult, refs: _Refs) -> None:
         "liquid product; its value is shown as a memo and not added to TAC.",
         "Quantities (flows, powers, volumes) are values at the optimum; costs are formulas "
         "over the Assumptions sheet. Cost curves, sensitivity, break-even and off-optimum "
-        "figures are values at the case prices.",
-    ):
-        _text(ws, row, 1, line)
-        row += 1
-    row += 1
-    _text(ws, row, 1, "Units", bold=True)
-    row += 1
-    for unit, meaning in UNITS:
-        _text(ws, row, 1, unit)
-        _text(ws, row, 2, meaning)
-        row += 1
-    row += 1
-    _text(ws, row, 1, "Cautions", bold=True)
-    row += 1
-    for line in CAUTIONS:
-        _text(ws, row, 1, line)
-        row += 1
+        "figures are values at the case prices.")])
+    row = _section(ws, row, "Units", UNITS)
+    _section(ws, row, "Cautions", [(line,) for line in CAUTIONS])
     _widths(ws, {"A": 22, "B": 40, "C": 10, "D": 12, "E": 9, "F": 11, "G": 90, "H": 60})
