@@ -448,13 +448,14 @@ class GeneratedCase:
         return f"{self.seed}: " + ("; ".join(self.log) or "unchanged")
 
 
-def make_case(ch, max_mutations: int = 4, max_depth: int = MAX_DEPTH) -> GeneratedCase:
+def make_case(ch, max_mutations: int = 4, max_depth: int = MAX_DEPTH,
+              seed: str | None = None) -> GeneratedCase:
     """A mutated demo case: 0..max_mutations dict mutations, then maybe one byte mutation.
 
     ``max_depth`` bounds the nesting a byte mutation appends; dict mutations stop at
-    ``min(max_depth, DOC_DEPTH)``.
+    ``min(max_depth, DOC_DEPTH)``.  ``seed`` picks the demo case (default: any).
     """
-    seed = ch.choice(sorted(SEEDS))
+    seed = seed or ch.choice(sorted(SEEDS))
     log: list[str] = []
     count = ch.integer(0, max_mutations)
     if count == 0:
@@ -472,9 +473,9 @@ def make_case(ch, max_mutations: int = 4, max_depth: int = MAX_DEPTH) -> Generat
 PERTURB_FACTORS = [0.01, 0.1, 0.5, 0.9, 0.99, 1.01, 1.1, 2.0, 10.0, 100.0]
 
 
-def perturb_case(ch, max_changes: int = 3) -> GeneratedCase:
+def perturb_case(ch, max_changes: int = 3, seed: str | None = None) -> GeneratedCase:
     """A demo case with a few numbers scaled: mostly still valid, so the solver runs."""
-    seed = ch.choice(sorted(SEEDS))
+    seed = seed or ch.choice(sorted(SEEDS))
     doc = copy.deepcopy(SEED_DOCS[seed])
     numbers = [(p, v) for p, v in nodes(doc)
                if isinstance(v, int | float) and not isinstance(v, bool)]
@@ -712,6 +713,40 @@ def test_optimize_survives_mutated_cases(worker, data):
             argv_extra=("--alternative", first_alternative(case), "--time-limit", "20"),
             runner=lambda argv: worker.run(argv, OPTIMIZE_TIMEOUT_S), allowed=OPTIMIZE_OK)
     event(f"optimize exit {status}")
+
+
+@settings(max_examples=10, deadline=None, phases=[Phase.explicit, Phase.reuse, Phase.generate],
+          suppress_health_check=[HealthCheck.too_slow])
+@given(data=st.data())
+def test_evaluate_survives_mutated_cases(worker, data):
+    ch = HypothesisChooser(data)
+    case = perturb_case(ch) if ch.integer(0, 3) else make_case(ch, max_mutations=2)
+    purge = ch.choice(["0.02", "0.0001", "0.5", "0", "1", "-0.1", "nan"])
+    with tempfile.TemporaryDirectory() as tmp:
+        status, _, _ = check_case_file(
+            case, Path(tmp), command="evaluate",
+            argv_extra=("--alternative", first_alternative(case), "--purge-fraction", purge),
+            runner=lambda argv: worker.run(argv, OPTIMIZE_TIMEOUT_S), allowed=OPTIMIZE_OK)
+    event(f"evaluate exit {status}")
+
+
+@settings(max_examples=3, deadline=None, phases=[Phase.explicit, Phase.reuse, Phase.generate],
+          suppress_health_check=[HealthCheck.too_slow])
+@given(data=st.data())
+def test_study_survives_mutated_cases(worker, data, tmp_path_factory):
+    """A few whole studies (workbook, JSON and plots) of mutated hydrogenation cases."""
+    ch = HypothesisChooser(data)
+    case = perturb_case(ch, seed="hydrogenation") if ch.integer(0, 2) else make_case(
+        ch, max_mutations=1, seed="hydrogenation")
+    out = tmp_path_factory.mktemp("study")
+    status, _, _ = check_case_file(
+        case, out, command="study",
+        argv_extra=("-o", str(out / "s.xlsx"), "--json", str(out / "s.json"), "--plots",
+                    str(out / "plots"), "--quiet", "--time-limit", "20"),
+        runner=lambda argv: worker.run(argv, 4 * OPTIMIZE_TIMEOUT_S), allowed=OPTIMIZE_OK)
+    if status == 2:
+        assert not (out / "s.xlsx").exists() and not (out / "s.json").exists()
+    event(f"study exit {status}")
 
 
 @settings(max_examples=6, deadline=None, suppress_health_check=[HealthCheck.too_slow])
