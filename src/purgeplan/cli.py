@@ -267,10 +267,10 @@ def cmd_study(args) -> int:
                                unit="task")
         bars[stage].update(n)
 
-    print(f"study: {case.case.name}", file=sys.stderr)
     result = run_study(case, digest, jobs=jobs, time_limit_s=args.time_limit, progress=progress)
     for b in bars.values():
         b.close()
+    print(f"study: {case.case.name} (case sha256 {digest[:12]})")
     _print_table([(a.rank, a.name, a.optimum) for a in result.alternatives], result.currency)
     for be in result.break_even:
         if be.get("premium_per_kmol") is not None:
