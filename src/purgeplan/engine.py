@@ -14,7 +14,6 @@ as the independent evaluation of the optimiser's answer.
 
 from __future__ import annotations
 
-import logging
 from collections import OrderedDict
 
 import numpy as np
@@ -23,8 +22,6 @@ from . import loop as lp
 from .errors import NoSteadyStateError
 from .loop import Loop, LoopVariables
 from .results import LoopState, make_state
-
-log = logging.getLogger(__name__)
 
 
 class _Lin:

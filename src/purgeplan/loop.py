@@ -22,7 +22,7 @@ from dataclasses import dataclass, field
 
 from .case import CapitalItem, Case
 from .errors import CaseError
-from .physics import compression, economics, reactor, separation, thermo
+from .physics import compression, reactor, separation, thermo
 from .physics.equilibrium import ATM_BAR, log10_ka_ammonia_gillespie_beattie
 from .properties import ComponentData, lookup
 
@@ -91,10 +91,6 @@ class Prices:
     recovery_capital: Capital | None
     recovery_operating_cost_per_kmol: float
     source_price_per_kmol: dict[str, float]
-
-    @property
-    def capital_recovery_factor(self) -> float:
-        return economics.capital_recovery_factor(self.discount_rate, self.life_years)
 
 
 @dataclass(frozen=True)
@@ -603,8 +599,3 @@ def equilibrium_conversions(loop: Loop, inlet_kmol_h: Mapping[str, float]) -> di
         out[i] = float(xi[j] * r.key_coefficient / max(inlet_kmol_h[r.key_reactant], 1e-300))
     return out
 
-
-def annualised_capital(item: Capital, size, prices: Prices):
-    """Annualised capital CRF C_ref (S/S_ref)^n (I/I_ref) [currency/year]."""
-    return prices.capital_recovery_factor * economics.scaled_capital_cost(
-        item.reference_cost, size, item.reference_size, item.exponent, prices.cost_index_ratio)

@@ -107,16 +107,26 @@ def _balances(loop: Loop, flows, extents) -> tuple[float, float]:
     return species, element
 
 
+def costing(loop: Loop) -> tuple[list, dict[str, float]]:
+    """The cost lines of a loop and the values of its assumptions."""
+    return costs.cost_lines(loop), costs.values(costs.assumptions(loop))
+
+
 def make_state(loop: Loop, purge_fraction: float, conversion: dict[int, float],
                flows: dict[str, dict[str, float]], extents: list[float],
                sources: dict[str, float], work_kj_kmol: float, volume_per_feed: float,
-               equilibrium_conversion: dict[int, float] | None = None) -> LoopState:
-    """Evaluate quantities, costs and balance closure of a solved loop."""
+               equilibrium_conversion: dict[int, float] | None = None,
+               pricing: tuple | None = None) -> LoopState:
+    """Evaluate quantities, costs and balance closure of a solved loop.
+
+    ``pricing`` is the loop's (cost lines, assumption values) from :func:`costing`,
+    for callers that evaluate many states of one loop.
+    """
     v = LoopVariables(flow=_Values(flows), extent=extents, source=sources,
                       purge_fraction=purge_fraction, conversion=conversion)
     q = quantities(v, loop, work_kj_kmol, volume_per_feed)
-    table = costs.values(costs.assumptions(loop))
-    lines = costs.evaluate(costs.cost_lines(loop), q, table)
+    cost_lines, table = pricing or costing(loop)
+    lines = costs.evaluate(cost_lines, q, table)
     tac = float(sum(lines.values()))
     tonnes = q["product_t_h"] * loop.prices.hours_per_year
     feed = flows["reactor_feed"]

@@ -38,7 +38,7 @@ from .engine import initial_conversions, secant_step, steady_state
 from .errors import InfeasibleError, NoSteadyStateError, SolverFailure
 from .loop import Loop
 from .model import build_model
-from .results import LoopState, make_state
+from .results import LoopState, costing, make_state
 
 log = logging.getLogger(__name__)
 
@@ -113,6 +113,7 @@ class LoopLP:
         from pyomo.contrib.solver.solvers.highs import Highs
 
         self.loop = loop
+        self.pricing = costing(loop)
         self.model = build_model(loop)
         self.solver = Highs()
         self.solver.config.load_solutions = False
@@ -130,7 +131,7 @@ class LoopLP:
         self.unlimited: dict[tuple, LoopState] = {}
         self.converged: list[tuple[float, dict]] = []
         self.solver_options = {"output_flag": False, **(solver_options or {})}
-        self._columns = None
+        self._solution_vars = None
         self._entries = None
         self.solves = 0
         self.started = time.perf_counter()
@@ -170,7 +171,7 @@ class LoopLP:
             remaining = self.time_limit_s - (time.perf_counter() - self.started)
             options["time_limit"] = max(remaining, 1e-3)
         try:
-            if self._columns is not None:
+            if self._solution_vars is not None:
                 return self._rerun(options)
             self.solver.config.solver_options = options
             result = self.solver.solve(self.model)
@@ -182,12 +183,12 @@ class LoopLP:
         status = map_termination(result.termination_condition)
         if status is Status.OPTIMAL:
             result.solution_loader.load_vars()
-        self._columns = self._column_map()
-        if self._columns is not None and not self.blend_free:
+        self._solution_vars = self._solution_variables()
+        if self._solution_vars is not None and not self.blend_free:
             self._entries = self._design_entries()
         return status, result.termination_condition
 
-    def _column_map(self):
+    def _solution_variables(self):
         """The flow, extent and source variables, read straight from HiGHS on re-solves.
 
         Re-solves then push the changed coefficients through the persistent
@@ -270,7 +271,7 @@ class LoopLP:
         if model_status == s.kOptimal:
             values = highs.getSolution().col_value
             columns = self.solver._pyomo_var_to_solver_var_map  # renumbered by update()
-            for var in self._columns:
+            for var in self._solution_vars:
                 var.set_value(values[columns[id(var)]], skip_validation=True)
             return Status.OPTIMAL, model_status
         if model_status in (s.kInfeasible, s.kUnboundedOrInfeasible):
@@ -289,8 +290,8 @@ class LoopLP:
 
     def _set_capital_tangents(self, quantities: dict) -> None:
         m = self.model
-        table = costs.values(costs.assumptions(self.loop))
-        for line in costs.cost_lines(self.loop):
+        lines, table = self.pricing
+        for line in lines:
             if line.kind != "capital":
                 continue
             size = max(quantities[line.quantity], 1e-6 * table[f"{line.capital}_reference_size"])
@@ -338,9 +339,6 @@ class LoopLP:
                 worst = max(worst, state.sources[s.name] / s.supply_limit_kmol_h - 1.0)
         return worst
 
-    def _limits_met(self, state: LoopState) -> bool:
-        return self._margin(state) <= 1e-9
-
     def _keep_square(self, key: tuple, state: LoopState) -> None:
         """Record a converged state of an LP with no freedom left; limits checked on it."""
         self.unlimited[key] = state
@@ -360,6 +358,7 @@ class LoopLP:
         if not self.can_reprice(loop):
             raise ValueError("reprice needs the same loop physics and an LP with no freedom")
         self.loop = loop
+        self.pricing = costing(loop)
         self.started = time.perf_counter()
         self.time_limit_s = time_limit_s
         self.states = {}
@@ -367,7 +366,7 @@ class LoopLP:
             self._keep_square(key, make_state(
                 loop, st.purge_fraction, st.conversion, st.flows, st.extents, st.sources,
                 st.recycle_work_kj_kmol, st.volume_per_feed_m3_h_kmol,
-                st.equilibrium_conversion))
+                st.equilibrium_conversion, self.pricing))
         for key in self.reasons:
             self.states[key] = None
 
@@ -435,11 +434,11 @@ class LoopLP:
             if change < self.tolerance:
                 state = make_state(loop, purge_fraction, x, flows, extents, sources,
                                    self.work if work_matters else new_work,
-                                   lp.volume_per_feed(loop, x), eq_x)
+                                   lp.volume_per_feed(loop, x), eq_x, self.pricing)
                 if blend_free:
                     moved = max((abs(state.quantities[line.quantity] - self.sizes.get(line.key, 0))
                                  / max(state.quantities[line.quantity], 1e-9)
-                                 for line in costs.cost_lines(loop) if line.kind == "capital"),
+                                 for line in self.pricing[0] if line.kind == "capital"),
                                 default=0.0)
                     if moved > 1e-9:
                         self._set_capital_tangents(state.quantities)

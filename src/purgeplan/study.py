@@ -11,7 +11,6 @@ from __future__ import annotations
 
 import dataclasses
 import datetime as dt
-import logging
 from collections.abc import Callable
 from dataclasses import dataclass, field
 
@@ -21,8 +20,6 @@ from . import __version__
 from .case import Case, expand_alternatives
 from .loop import Loop, build_loop
 from .solve import LoopLP, Optimum, optimise
-
-log = logging.getLogger(__name__)
 
 
 @dataclass
