@@ -701,18 +701,22 @@ def worker():
 OPTIMIZE_TIMEOUT_S = 60
 
 
+def _solve_mutated(worker, ch, command: str, *extra: str) -> None:
+    """One mostly valid mutated case through a solving command, in the worker process."""
+    case = perturb_case(ch) if ch.integer(0, 3) else make_case(ch, max_mutations=2)
+    with tempfile.TemporaryDirectory() as tmp:
+        status, _, _ = check_case_file(
+            case, Path(tmp), command=command,
+            argv_extra=("--alternative", first_alternative(case), *extra),
+            runner=lambda argv: worker.run(argv, OPTIMIZE_TIMEOUT_S), allowed=OPTIMIZE_OK)
+    event(f"{command} exit {status}")
+
+
 @settings(max_examples=20, deadline=None, phases=[Phase.explicit, Phase.reuse, Phase.generate],
           suppress_health_check=[HealthCheck.too_slow])
 @given(data=st.data())
 def test_optimize_survives_mutated_cases(worker, data):
-    ch = HypothesisChooser(data)
-    case = perturb_case(ch) if ch.integer(0, 3) else make_case(ch, max_mutations=2)
-    with tempfile.TemporaryDirectory() as tmp:
-        status, _, _ = check_case_file(
-            case, Path(tmp), command="optimize",
-            argv_extra=("--alternative", first_alternative(case), "--time-limit", "20"),
-            runner=lambda argv: worker.run(argv, OPTIMIZE_TIMEOUT_S), allowed=OPTIMIZE_OK)
-    event(f"optimize exit {status}")
+    _solve_mutated(worker, HypothesisChooser(data), "optimize", "--time-limit", "20")
 
 
 @settings(max_examples=10, deadline=None, phases=[Phase.explicit, Phase.reuse, Phase.generate],
@@ -720,14 +724,8 @@ def test_optimize_survives_mutated_cases(worker, data):
 @given(data=st.data())
 def test_evaluate_survives_mutated_cases(worker, data):
     ch = HypothesisChooser(data)
-    case = perturb_case(ch) if ch.integer(0, 3) else make_case(ch, max_mutations=2)
     purge = ch.choice(["0.02", "0.0001", "0.5", "0", "1", "-0.1", "nan"])
-    with tempfile.TemporaryDirectory() as tmp:
-        status, _, _ = check_case_file(
-            case, Path(tmp), command="evaluate",
-            argv_extra=("--alternative", first_alternative(case), "--purge-fraction", purge),
-            runner=lambda argv: worker.run(argv, OPTIMIZE_TIMEOUT_S), allowed=OPTIMIZE_OK)
-    event(f"evaluate exit {status}")
+    _solve_mutated(worker, ch, "evaluate", "--purge-fraction", purge)
 
 
 @settings(max_examples=3, deadline=None, phases=[Phase.explicit, Phase.reuse, Phase.generate],
