@@ -45,7 +45,7 @@ def main() -> None:
         raw.pop(key, None)
     raw["makeup_sources"] = ["standard"]
     raw["reactions"][0].update(per_pass="fixed",
-                               per_pass_conversion=round(opt.state.per_pass_conversion, 6))
+                               per_pass_conversion=round(opt.state.first_reaction_conversion, 6))
     raw["reactions"][0].pop("approach_to_equilibrium")
     raw["reactions"][0].pop("equilibrium")
     for comp in raw["components"].values():

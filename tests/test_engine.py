@@ -21,12 +21,12 @@ AMMONIA_3_TO_1 = {"H2": 0.75, "N2": 0.25}
 def independent_balances(loop, flows, extents, outlets=None):
     """Largest relative species and element imbalance, recomputed from the streams.
 
-    In: "makeup" and "liquid_feed" (if present); made: sum_r nu_rc xi_r; out:
+    In: "makeup" and "direct_feed" (if present); made: sum_r nu_rc xi_r; out:
     "liquid_product" and the disposal stream (tail gas of a recovery unit, else purge).
     Species errors are relative to the total feed, element errors to the atoms of that
     element fed (to all atoms fed for an element the feeds do not carry).
     """
-    feeds = [s for s in ("makeup", "liquid_feed") if s in flows]
+    feeds = [s for s in ("makeup", "direct_feed") if s in flows]
     outlets = outlets or ["liquid_product", loop.disposal_stream]
     fed = {c: sum(flows[s][c] for s in feeds) for c in loop.components}
     left = {c: sum(flows[s][c] for s in outlets) for c in loop.components}
@@ -145,7 +145,7 @@ def test_random_loops_close_balances(drawn):
     loop = loop_from_text(text)
     state = purgeplan.steady_state(loop)
     assert state.purge_fraction == a
-    assert state.per_pass_conversion == x
+    assert state.first_reaction_conversion == x
     assert state.species_balance_error < BALANCE_TOL
     assert state.element_balance_error < BALANCE_TOL
     species, element = independent_balances(loop, state.flows, state.extents)
@@ -300,7 +300,7 @@ def test_sized_reactor_volume_grows_with_conversion():
     volumes = [s.quantities["reactor_volume_m3"] for s in states]
     assert all(b > a for a, b in zip(volumes, volumes[1:], strict=False))
     for x, s in zip(conversions, states, strict=True):
-        assert s.per_pass_conversion == x
+        assert s.first_reaction_conversion == x
         expected = (60.0 * s.quantities["reactor_feed_kmol_h"] / 5000.0
                     * _levenspiel(x, 0.4) / _levenspiel(0.25, 0.4))
         assert s.quantities["reactor_volume_m3"] == pytest.approx(expected, rel=1e-12)

@@ -23,7 +23,8 @@ from purgeplan.case import validate_case_dict
 from purgeplan.cli import main
 from purgeplan.engine import steady_state
 from purgeplan.errors import NoSteadyStateError
-from purgeplan.solve import LoopLP, Status, optimise
+from purgeplan.reduced_space import LoopLP
+from purgeplan.solve import Status, optimise
 
 ROOT = Path(__file__).resolve().parents[1]
 DEMO = ROOT / "cases" / "ammonia_demo.toml"
@@ -126,16 +127,16 @@ def test_exception_during_json_save_leaves_earlier_json(tmp_path, small_case, mo
 def test_solver_fault_marks_one_alternative_failed_everywhere(tmp_path, small_case,
                                                               monkeypatch, capsys):
     """One alternative's HiGHS fails: reported in terminal, JSON and workbook; exit 4."""
-    original = LoopLP._lp
+    original = LoopLP._converge
 
-    def flaky(self):
+    def flaky(self, *args):
         if self.loop.name == "flare":
             from purgeplan.errors import SolverFailure
 
             raise SolverFailure("HiGHS stopped with 'error' (simulated fault)")
-        return original(self)
+        return original(self, *args)
 
-    monkeypatch.setattr(LoopLP, "_lp", flaky)
+    monkeypatch.setattr(LoopLP, "_converge", flaky)
     out, js = tmp_path / "s.xlsx", tmp_path / "s.json"
     code = main(["study", str(small_case), "-o", str(out), "--json", str(js), "--quiet"])
     assert code == 4

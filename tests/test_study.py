@@ -10,7 +10,7 @@ import pytest
 
 from purgeplan.case import validate_case_dict
 from purgeplan.solve import optimise
-from purgeplan.study import run_study, study_document, with_source_price
+from purgeplan.study import run_study, study_document, with_source_prices
 
 CASE = Path(__file__).resolve().parents[1] / "cases" / "ammonia_demo.toml"
 
@@ -54,7 +54,7 @@ def test_break_even_premium_ties_the_two_alternatives(study):
     for be in study.break_even:
         alt = next(a for a in study.alternatives if a.name == be["alternative"])
         base = next(a for a in study.alternatives if a.name == be["base_alternative"])
-        tie = optimise(with_source_price(alt.loop, be["grade"], be["tie_price_per_kmol"]))
+        tie = optimise(with_source_prices(alt.loop, {be["grade"]: be["tie_price_per_kmol"]}))
         target = base.optimum.state.tac_per_year
         assert abs(tie.state.tac_per_year - target) <= 1e-6 * target
         assert be["premium_per_kmol"] == pytest.approx(

@@ -15,7 +15,7 @@ __version__ = "0.1.0"
 
 _PUBLIC = {
     "Case": "case", "expand_alternatives": "case", "load_case": "case",
-    "parse_case_text": "case", "build_loop": "loop", "steady_state": "engine",
+    "parse_case_text": "case", "build_loop": "build", "steady_state": "engine",
     "optimise": "solve", "run_study": "study",
 }
 

@@ -106,7 +106,7 @@ def _pick(alternatives, name: str | None):
 
 
 def _status_of(optima) -> int:
-    from .solve import Status
+    from .errors import Status
 
     if any(o.status in (Status.FAILED, Status.TIME_LIMIT) for o in optima):
         return EXIT_FAILED
@@ -126,16 +126,16 @@ def _print_table(rows, currency: str) -> None:
             print(f"{'-':>4}  {name:<{width}} {opt.status.value.upper()}: {opt.message}")
             continue
         print(f"{rank if rank else '':>4}  {name:<{width}} {s.purge_fraction:14.6f} "
-              f"{100 * s.inert_fraction_reactor_inlet:13.2f}% {s.per_pass_conversion:8.4f} "
+              f"{100 * s.inert_fraction_reactor_inlet:13.2f}% {s.first_reaction_conversion:8.4f} "
               f"{s.tac_per_year:18,.0f} {s.cost_per_tonne_product:9.2f}  "
               f"{', '.join(opt.binding_constraints) or '-'}")
 
 
 def cmd_check(args) -> int:
+    from .build import build_loop
     from .case import expand_alternatives
     from .engine import steady_state
     from .errors import NoSteadyStateError
-    from .loop import build_loop
 
     case, digest = _load(args.case)
     alts = expand_alternatives(case)
@@ -159,7 +159,7 @@ def cmd_check(args) -> int:
             limit = lp_.max_inert_fraction_reactor_inlet
             over = (f" (above the inert limit {100 * limit:g} %)"
                     if limit is not None and s.inert_fraction_reactor_inlet > limit else "")
-            print(f"  {name}: per-pass {s.per_pass_conversion:.4f}, overall "
+            print(f"  {name}: per-pass {s.first_reaction_conversion:.4f}, overall "
                   f"{s.overall_conversion:.4f}, inert at inlet "
                   f"{100 * s.inert_fraction_reactor_inlet:.2f} %{over}, recycle "
                   f"{sum(s.flows['recycle'].values()):,.0f} kmol/h, TAC "
@@ -195,9 +195,9 @@ def _records(rows, digest: str):
 
 
 def cmd_evaluate(args) -> int:
+    from .build import build_loop
     from .case import expand_alternatives
     from .errors import CaseError
-    from .loop import build_loop
     from .solve import evaluate_at
 
     case, digest = _load(args.case)
@@ -223,8 +223,8 @@ def cmd_evaluate(args) -> int:
 
 
 def cmd_optimize(args) -> int:
+    from .build import build_loop
     from .case import expand_alternatives
-    from .loop import build_loop
     from .solve import optimise
 
     case, digest = _load(args.case)

@@ -30,7 +30,7 @@ from collections.abc import Callable, Mapping
 from dataclasses import dataclass
 
 from .loop import Loop
-from .physics.economics import capital_recovery_factor
+from .physics.economics import capital_recovery_factor, scaled_capital_cost
 
 
 @dataclass(frozen=True)
@@ -135,8 +135,9 @@ def cost_lines(loop: Loop) -> list[CostLine]:
 def exact_capital(line: CostLine, size, a: Mapping[str, float]):
     """Annualised capital of one line at its size [currency/year]."""
     crf = capital_recovery_factor(a["discount_rate"], a["life_years"])
-    return crf * a[f"{line.capital}_reference_cost"] * a["cost_index_ratio"] * (
-        size / a[f"{line.capital}_reference_size"]) ** a[f"{line.capital}_exponent"]
+    return crf * scaled_capital_cost(a[f"{line.capital}_reference_cost"], size,
+                                     a[f"{line.capital}_reference_size"],
+                                     a[f"{line.capital}_exponent"], a["cost_index_ratio"])
 
 
 def evaluate(lines: list[CostLine], quantities: Mapping, a: Mapping[str, float],

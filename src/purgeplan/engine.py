@@ -1,12 +1,12 @@
 """Direct steady-state solve of the loop for given design variables.
 
-The loop equations of :mod:`purgeplan.loop` are affine in the flows and, for
+The loop equations of :mod:`purgeplan.equations` are affine in the flows and, for
 fixed flows, affine in the purge fraction and in each per-pass conversion
 with no products between them.  Evaluated once over linear forms they give
 matrices A0, A_a and A_r with A(a, X) = A0 + a A_a + sum_r X_r A_r; each steady
 state is then one dense linear solve.  An equilibrium-limited reactor (and the
-recycle gas heat-capacity ratio) is converged by an inner fixed point on the
-reactor inlet composition.
+recycle gas heat-capacity ratio) is converged by the inner fixed point of
+:mod:`purgeplan.fixed_point` on the reactor inlet composition.
 
 This path does not use the optimiser or any solver library; the tests use it
 as the independent evaluation of the optimiser's answer.
@@ -18,9 +18,11 @@ from collections import OrderedDict
 
 import numpy as np
 
-from . import loop as lp
+from . import coefficients, equations
+from .equations import LoopVariables
 from .errors import NoSteadyStateError
-from .loop import Loop, LoopVariables
+from .fixed_point import converge, initial_conversions
+from .loop import Loop
 from .results import LoopState, make_state
 
 
@@ -105,7 +107,7 @@ class Engine:
 
     def _matrix(self, purge_fraction, conversion, shares=None):
         v = self._vars(purge_fraction, conversion)
-        rows = [res for family in lp.EQUATION_FAMILIES for _, res in family(v, self.loop)]
+        rows = [res for family in equations.EQUATION_FAMILIES for _, res in family(v, self.loop)]
         n = len(self.keys)
         nrows = len(rows) + sum(len(g) - 1 for g in self.group_rows)
         a = np.zeros((nrows, n))
@@ -153,6 +155,15 @@ class Engine:
                     "the make-up gas and has no outlet, so it builds up at its make-up rate")
         return "no steady state: the loop equations are singular for these design variables"
 
+    def linear_solve(self, purge_fraction: float, shares: dict[str, float] | None = None):
+        """The engine as the linear solve of :func:`purgeplan.fixed_point.converge`."""
+        n_r = len(self.loop.reactions)
+
+        def solve(conversion, _work):
+            return self.unpack(self.solve(purge_fraction, [conversion[i] for i in range(n_r)],
+                                          shares))
+        return solve
+
     def unpack(self, z):
         loop = self.loop
         flows = {s: {c: float(z[self.index["flow", s, c]]) for c in loop.components}
@@ -196,7 +207,7 @@ def steady_state(loop: Loop, purge_fraction: float | None = None,
         Share of each source within its group (make-up or direct feed) when a
         group has several; default equal shares.
     tolerance : float
-        Convergence of the inner fixed point on conversions and recycle work.
+        Convergence of the inner fixed point on the per-pass conversions.
 
     Raises
     ------
@@ -205,93 +216,9 @@ def steady_state(loop: Loop, purge_fraction: float | None = None,
     """
     a = loop.purge_fraction if purge_fraction is None else float(purge_fraction)
     eng = engine_for(loop)
-    x = initial_conversions(loop, conversion)
-    work = None
-    eq_x: dict[int, float] = {}
-    physical_x = None
-    history: dict[int, list] = {}
-    for _ in range(max_iterations):
-        z = eng.solve(a, [x[i] for i in range(len(loop.reactions))], shares)
-        flows, extents, sources = eng.unpack(z)
-        if _negative(flows):
-            if physical_x is None:
-                raise NoSteadyStateError(_unphysical(flows))
-            # an overshooting iterate: step back towards the last physical one
-            x = {i: 0.5 * (x[i] + physical_x[i]) for i in x}
-            history.clear()
-            continue
-        physical_x = dict(x)
-        new_work = lp.recycle_work_kj_kmol(loop, _composition(flows["separator_vapour"]))
-        eq_x = lp.equilibrium_conversions(loop, flows["reactor_feed"])
-        new_x = dict(x)
-        residuals = [0.0]
-        for i, xe in eq_x.items():
-            if loop.reactions[i].per_pass == "equilibrium":
-                residual = loop.reactions[i].approach_to_equilibrium * xe - x[i]
-                residuals.append(abs(residual))
-                new_x[i] = secant_step(history.setdefault(i, []), x[i], residual)
-        change = max(residuals + [
-            abs(new_work - work) / max(new_work, 1e-12) if work is not None else 1.0])
-        x, work = new_x, new_work
-        if change < tolerance:
-            break
-    else:
-        raise NoSteadyStateError("the equilibrium reactor did not converge in "
-                                 f"{max_iterations} fixed-point steps")
-    z = eng.solve(a, [x[i] for i in range(len(loop.reactions))], shares)
-    flows, extents, sources = eng.unpack(z)
-    above = [i for i, xe in eq_x.items() if x[i] > xe]
-    if above:
-        r = loop.reactions[above[0]]
-        raise NoSteadyStateError(
-            f"the per-pass conversion {x[above[0]]:.4g} of '{r.name}' is above its equilibrium "
-            f"conversion {eq_x[above[0]]:.4g} at the reactor inlet")
-    if _negative(flows):
-        raise NoSteadyStateError(_unphysical(flows))
-    return make_state(loop, a, x, flows, extents, sources, work,
-                      lp.volume_per_feed(loop, x), eq_x)
-
-
-def initial_conversions(loop: Loop, given: dict[int, float] | None = None) -> dict[int, float]:
-    """Starting per-pass conversions: fixed values, the sized reference, half of equilibrium."""
-    out = {}
-    for i, r in enumerate(loop.reactions):
-        if given and i in given:
-            out[i] = float(given[i])
-        elif r.per_pass == "fixed":
-            out[i] = r.per_pass_conversion
-        elif r.per_pass == "sized":
-            out[i] = r.sizing["reference_conversion"]
-        else:
-            out[i] = 0.5 * r.approach_to_equilibrium
-    return out
-
-
-def secant_step(history: list, x: float, residual: float) -> float:
-    """Next iterate of x = x + residual(x) by the secant method over the last two points."""
-    history.append((x, residual))
-    if len(history) >= 2 and history[-1][1] != history[-2][1]:
-        (x0, g0), (x1, g1) = history[-2], history[-1]
-        x = x1 - g1 * (x1 - x0) / (g1 - g0)
-    else:
-        x = x + residual
-    return min(max(x, 1e-9), 0.999999)
-
-
-def _negative(flows) -> list:
-    scale = max(1.0, abs(sum(flows["reactor_feed"].values())))
-    return [(s, c) for s, fl in flows.items() for c, f in fl.items() if f < -1e-9 * scale]
-
-
-def _unphysical(flows) -> str:
-    s, c = _negative(flows)[0]
-    return (f"no physical steady state: stream {s} would carry {flows[s][c]:.4g} kmol/h of {c}"
-            + (" (the separator cannot condense the product at this inert level)"
-               if s == "liquid_product" else ""))
-
-
-def _composition(flow: dict[str, float]) -> dict[str, float]:
-    total = sum(flow.values())
-    if total <= 0:
-        return {c: 1.0 / len(flow) for c in flow}
-    return {c: max(f, 0.0) / total for c, f in flow.items()}
+    done = converge(loop, eng.linear_solve(a, shares), initial_conversions(loop, conversion),
+                    tolerance=tolerance, max_iterations=max_iterations)
+    return make_state(loop, a, done.conversion, done.flows, done.extents, done.sources,
+                      done.recycle_work_kj_kmol,
+                      coefficients.catalyst_volume_per_feed_m3_h_kmol(loop, done.conversion),
+                      done.equilibrium_conversion, route="direct linear solve")

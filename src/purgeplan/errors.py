@@ -1,10 +1,21 @@
-"""Exceptions that name the field at fault and the fix.
+"""Exceptions that name the field at fault and the fix, and the statuses every solve ends in.
 
 The CLI maps :class:`CaseError` to exit status 2, :class:`InfeasibleError` to
 exit status 3 and :class:`SolverFailure` to exit status 4.
 """
 
 from __future__ import annotations
+
+import enum
+
+
+class Status(enum.Enum):
+    """How the solve of one alternative (or one LP) ended."""
+
+    OPTIMAL = "optimal"
+    INFEASIBLE = "infeasible"
+    TIME_LIMIT = "time limit"
+    FAILED = "failed"
 
 
 class CaseError(ValueError):
@@ -28,7 +39,7 @@ class CaseError(ValueError):
 
 
 class NoSteadyStateError(ArithmeticError):
-    """The loop has no steady state for the given design variables."""
+    """The loop has no (physical) steady state for the given design variables."""
 
 
 class InfeasibleError(RuntimeError):
@@ -36,4 +47,12 @@ class InfeasibleError(RuntimeError):
 
 
 class SolverFailure(RuntimeError):
-    """The solver did not return an optimal solution for a reason of its own."""
+    """The solver did not return an optimal solution for a reason of its own.
+
+    ``status`` is :attr:`Status.TIME_LIMIT` when a time limit stopped it,
+    otherwise :attr:`Status.FAILED`.
+    """
+
+    def __init__(self, message: str, status: Status = Status.FAILED):
+        self.status = status
+        super().__init__(message)

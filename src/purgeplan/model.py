@@ -1,13 +1,14 @@
 """The Pyomo model of one alternative: balances, reactor, compression and costs.
 
-The constraints are the equation families of :mod:`purgeplan.loop`, one Pyomo
+The constraints are the equation families of :mod:`purgeplan.equations`, one Pyomo
 ``Constraint`` per family, named after it (``m.mixer_balance``,
-``m.purge_split``, ...), plus the limits a case may set.  The purge fraction
-``m.purge_fraction`` and per-pass conversions ``m.conversion`` are the design
-variables.  For the reduced-space strategy of :mod:`purgeplan.solve` they are
-built as mutable parameters (``design="fixed"``), which leaves a linear
-programme for HiGHS whose coefficients change in place between re-solves; a
-global solver gets them as variables (``design="free"``).
+``m.purge_split``, ...), plus the limits of :mod:`purgeplan.limits` as
+``m.limit``.  The purge fraction ``m.purge_fraction`` and per-pass conversions
+``m.conversion`` are the design variables.  For the reduced-space strategy of
+:mod:`purgeplan.reduced_space` they are built as mutable parameters
+(``design="fixed"``), which leaves a linear programme for HiGHS whose
+coefficients change in place between re-solves; a global solver gets them as
+variables (``design="free"``).
 
 Coefficients that depend on the state (recycle work from the gas's heat
 capacity ratio, catalyst volume per feed) are mutable parameters.  With
@@ -20,10 +21,9 @@ from __future__ import annotations
 
 import pyomo.environ as pyo
 
-from . import costs
-from . import loop as lp
-from .loop import Loop, LoopVariables
-from .results import quantities
+from . import costs, equations, limits
+from .equations import LoopVariables, quantities
+from .loop import Loop
 
 
 def _label(key) -> str:
@@ -33,35 +33,35 @@ def _label(key) -> str:
 
 
 def add_loop_equations(m: pyo.ConcreteModel, loop: Loop, v: LoopVariables) -> None:
-    """One Constraint per equation family of the loop (see :mod:`purgeplan.loop`)."""
-    for family in lp.EQUATION_FAMILIES:
+    """One Constraint per equation family of the loop (see :mod:`purgeplan.equations`)."""
+    for family in equations.EQUATION_FAMILIES:
         items = {_label(k): res for k, res in family(v, loop)}
         if items:
             m.add_component(family.__name__, pyo.Constraint(
                 list(items), rule=lambda _m, k, items=items: items[k] == 0))
 
 
-def add_limits(m: pyo.ConcreteModel, loop: Loop) -> None:
-    """Inert limit at the reactor inlet, recycle compressor limit, supply limits.
+def add_limits(m: pyo.ConcreteModel, loop: Loop, q: dict) -> None:
+    """The state limits of :func:`purgeplan.limits.loop_limits` as ``m.limit[name]``.
 
-    sum_inert M_c <= y_max sum_c M_c + r;  W_recycle <= W_max + r;  f_s <= f_s,max + r,
-    with the relaxation r (``m.limit_relaxation``) zero except while the inner
-    fixed point of the solve layer is still moving the per-pass conversion.
+    q_limit <= bound q_per + r  (or >= for a lower bound), with the relaxation r
+    (``m.limit_relaxation``) zero except while the inner fixed point of the
+    solve layer is still moving the per-pass conversion.
     """
     m.limit_relaxation = pyo.Param(mutable=True, initialize=0.0)
-    if loop.max_inert_fraction_reactor_inlet is not None:
-        m.inert_limit = pyo.Constraint(
-            expr=m.inert_kmol_h_reactor_inlet
-            <= loop.max_inert_fraction_reactor_inlet * m.reactor_feed_kmol_h + m.limit_relaxation)
-    if loop.max_recycle_power_kw is not None:
-        m.recycle_power_limit = pyo.Constraint(
-            expr=m.recycle_compressor_power_kw <= loop.max_recycle_power_kw + m.limit_relaxation)
-    limited = [s for s in loop.sources if s.supply_limit_kmol_h is not None]
-    if limited:
-        m.supply_limit = pyo.Constraint(
-            [s.name for s in limited],
-            rule=lambda _m, n: m.source[n] <= next(
-                s.supply_limit_kmol_h for s in limited if s.name == n) + m.limit_relaxation)
+    table = {lim.name: lim for lim in limits.state_limits(loop)}
+    if not table:
+        return
+
+    def rule(_m, name):
+        lim = table[name]
+        bound = lim.bound * (q[lim.per] if lim.per else 1.0)
+        if lim.sense == "max":
+            return q[lim.quantity] <= bound + m.limit_relaxation
+        return q[lim.quantity] >= bound - m.limit_relaxation
+
+    m.LIMIT = pyo.Set(initialize=list(table))
+    m.limit = pyo.Constraint(m.LIMIT, rule=rule)
 
 
 def add_costs(m: pyo.ConcreteModel, loop: Loop, q: dict, capital: str) -> None:
@@ -117,16 +117,16 @@ def build_model(loop: Loop, capital: str = "tangent", design: str = "fixed"
         m.conversion.fix()
     # state-dependent coefficients, set by the solve layer before every solve
     m.recycle_work_kj_kmol = pyo.Param(mutable=True, initialize=1000.0)
-    m.volume_per_feed = pyo.Param(mutable=True, initialize=1.0)
+    m.catalyst_volume_per_feed_m3_h_kmol = pyo.Param(mutable=True, initialize=1.0)
 
     v = LoopVariables(flow=m.flow, extent=m.extent, source=m.source,
                       purge_fraction=m.purge_fraction, conversion=m.conversion)
     add_loop_equations(m, loop, v)
-    q = quantities(v, loop, m.recycle_work_kj_kmol, m.volume_per_feed)
+    q = quantities(v, loop, m.recycle_work_kj_kmol, m.catalyst_volume_per_feed_m3_h_kmol)
     for key in ("recycle_compressor_power_kw", "makeup_compressor_power_kw", "reactor_volume_m3",
                 "reactor_feed_kmol_h", "inert_kmol_h_reactor_inlet", "disposal_heat_gj_h"):
         m.add_component(key, pyo.Expression(expr=q[key]))
         q[key] = m.component(key)
-    add_limits(m, loop)
+    add_limits(m, loop, q)
     add_costs(m, loop, q, capital)
     return m

@@ -3,16 +3,20 @@
 Both the direct engine and the Pyomo solve hand their raw values (flows,
 extents, source flows) to :func:`make_state`, which evaluates the stated
 quantities and cost lines on numbers and recomputes the balances
-independently of the equations.
+independently of the equations.  States evaluated during a search leave the
+balance closure out (NaN) for speed; :func:`with_balances` adds it to every
+state that is reported.
 """
 
 from __future__ import annotations
 
+import dataclasses
+import math
 from dataclasses import dataclass, field
 
 from . import costs
-from . import loop as lp
-from .loop import Loop, LoopVariables
+from .equations import LoopVariables, quantities
+from .loop import Loop
 
 
 @dataclass
@@ -38,11 +42,13 @@ class LoopState:
     species_balance_error: float
     element_balance_error: float
     recycle_work_kj_kmol: float
-    volume_per_feed_m3_h_kmol: float
+    catalyst_volume_per_feed_m3_h_kmol: float
     equilibrium_conversion: dict[int, float] = field(default_factory=dict)
+    route: str = ""
 
     @property
-    def per_pass_conversion(self) -> float:
+    def first_reaction_conversion(self) -> float:
+        """Per-pass conversion of the key reactant of the case's first reaction [-]."""
         return self.conversion[0]
 
     @property
@@ -61,30 +67,13 @@ class _Values:
         return self.nested[stream][comp]
 
 
-def quantities(v: LoopVariables, loop: Loop, work_kj_kmol, volume_per_feed) -> dict:
-    """Every physical quantity a cost line or a limit refers to, by key."""
-    q = {f"source_kmol_h:{s.name}": v.source[s.name] for s in loop.sources}
-    q.update({
-        "recycle_compressor_power_kw": lp.recycle_compressor_power_kw(v, loop, work_kj_kmol),
-        "makeup_compressor_power_kw": lp.makeup_compressor_power_kw(v, loop),
-        "reactor_volume_m3": lp.reactor_volume_m3(v, loop, volume_per_feed),
-        "reactor_feed_kmol_h": lp.reactor_feed_kmol_h(v, loop),
-        "inert_kmol_h_reactor_inlet": lp.inert_kmol_h_reactor_inlet(v, loop),
-        "disposal_heat_gj_h": lp.disposal_heat_gj_h(v, loop),
-        "disposal_kmol_h": lp.disposal_kmol_h(v, loop),
-        "product_t_h": lp.product_t_h(v, loop),
-        "recovery_feed_kmol_h": lp.recovery_feed_kmol_h(v, loop),
-    })
-    return q
-
-
 def _balances(loop: Loop, flows, extents) -> tuple[float, float]:
     """Largest relative species and element balance errors over the whole loop [-].
 
     Recomputed from the streams alone: what enters with the feeds, plus what
     the reactions make, minus what leaves with the liquid and the purge gas.
     """
-    feeds = [s for s in ("makeup", "liquid_feed") if s in flows]
+    feeds = list(loop.feed_streams)
     out_streams = ["liquid_product", loop.disposal_stream]
     scale = max(sum(flows[s][c] for s in feeds for c in loop.components), 1e-300)
     species = 0.0
@@ -116,11 +105,13 @@ def make_state(loop: Loop, purge_fraction: float, conversion: dict[int, float],
                flows: dict[str, dict[str, float]], extents: list[float],
                sources: dict[str, float], work_kj_kmol: float, volume_per_feed: float,
                equilibrium_conversion: dict[int, float] | None = None,
-               pricing: tuple | None = None) -> LoopState:
-    """Evaluate quantities, costs and balance closure of a solved loop.
+               pricing: tuple | None = None, balances: bool = True,
+               route: str = "") -> LoopState:
+    """Evaluate quantities, costs and (with ``balances``) balance closure of a solved loop.
 
     ``pricing`` is the loop's (cost lines, assumption values) from :func:`costing`,
-    for callers that evaluate many states of one loop.
+    for callers that evaluate many states of one loop; ``route`` says which
+    solver found the flows.
     """
     v = LoopVariables(flow=_Values(flows), extent=extents, source=sources,
                       purge_fraction=purge_fraction, conversion=conversion)
@@ -133,15 +124,14 @@ def make_state(loop: Loop, purge_fraction: float, conversion: dict[int, float],
     total_feed = sum(feed.values())
     reactants = sorted({c for r in loop.reactions for c, nu in r.stoichiometry.items() if nu < 0})
     spend = sum(loop.prices.source_price_per_kmol[s] * f for s, f in sources.items())
-    reactant_bought = sum(flows[s][c] for s in ("makeup", "liquid_feed") if s in flows
-                          for c in reactants)
+    reactant_bought = sum(flows[s][c] for s in loop.feed_streams for c in reactants)
     lost = sum(flows[s][c] for s in ("liquid_product", loop.disposal_stream) for c in reactants)
     price_per_reactant = spend / reactant_bought if reactant_bought > 0 else 0.0
     key = loop.reactions[0].key_reactant
-    fed_key = sum(flows[s][key] for s in ("makeup", "liquid_feed") if s in flows)
+    fed_key = sum(flows[s][key] for s in loop.feed_streams)
     consumed_key = sum(-r.stoichiometry[key] * extents[i] for i, r in enumerate(loop.reactions)
                        if key in r.stoichiometry)
-    species, element = _balances(loop, flows, extents)
+    species, element = _balances(loop, flows, extents) if balances else (math.nan, math.nan)
     return LoopState(
         name=loop.name, purge_fraction=float(purge_fraction),
         conversion={i: float(x) for i, x in conversion.items()}, flows=flows,
@@ -154,5 +144,13 @@ def make_state(loop: Loop, purge_fraction: float, conversion: dict[int, float],
                                       if total_feed > 0 else 0.0),
         overall_conversion=consumed_key / fed_key if fed_key > 0 else 0.0,
         species_balance_error=species, element_balance_error=element,
-        recycle_work_kj_kmol=float(work_kj_kmol), volume_per_feed_m3_h_kmol=float(volume_per_feed),
-        equilibrium_conversion=dict(equilibrium_conversion or {}))
+        recycle_work_kj_kmol=float(work_kj_kmol),
+        catalyst_volume_per_feed_m3_h_kmol=float(volume_per_feed),
+        equilibrium_conversion=dict(equilibrium_conversion or {}), route=route)
+
+
+def with_balances(loop: Loop, state: LoopState) -> LoopState:
+    """The state with its species and element balance closure evaluated."""
+    species, element = _balances(loop, state.flows, state.extents)
+    return dataclasses.replace(state, species_balance_error=species,
+                               element_balance_error=element)

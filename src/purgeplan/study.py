@@ -11,15 +11,17 @@ from __future__ import annotations
 
 import dataclasses
 import datetime as dt
-from collections.abc import Callable
+from collections.abc import Callable, Mapping
 from dataclasses import dataclass, field
 
 from scipy.optimize import brentq
 
 from . import __version__
+from .build import build_loop
 from .case import Case, expand_alternatives
-from .loop import Loop, build_loop
-from .solve import LoopLP, Optimum, optimise
+from .loop import Loop
+from .reduced_space import LoopLP
+from .solve import Optimum, optimise
 
 
 @dataclass
@@ -149,21 +151,15 @@ def rank(alternatives: list[Alternative]) -> list[Alternative]:
 # price levers
 
 
-def _scale_sources(loop: Loop, factor: float, only: str | None = None) -> Loop:
-    sources = tuple(dataclasses.replace(s, price_per_kmol=s.price_per_kmol * factor)
-                    if only in (None, s.name) else s for s in loop.sources)
-    prices = dataclasses.replace(loop.prices, source_price_per_kmol={
-        s.name: s.price_per_kmol for s in sources})
-    return dataclasses.replace(loop, sources=sources, prices=prices)
+def with_source_prices(loop: Loop, prices: Mapping[str, float]) -> Loop:
+    """The loop with new prices for the named sources [currency/kmol]."""
+    return dataclasses.replace(loop, prices=dataclasses.replace(
+        loop.prices, source_price_per_kmol={**loop.prices.source_price_per_kmol, **prices}))
 
 
-def with_source_price(loop: Loop, name: str, price: float) -> Loop:
-    """The loop with one source at a new price [currency/kmol]."""
-    sources = tuple(dataclasses.replace(s, price_per_kmol=price) if s.name == name else s
-                    for s in loop.sources)
-    prices = dataclasses.replace(loop.prices, source_price_per_kmol={
-        s.name: s.price_per_kmol for s in sources})
-    return dataclasses.replace(loop, sources=sources, prices=prices)
+def _scale_sources(loop: Loop, factor: float) -> Loop:
+    return with_source_prices(loop, {name: price * factor for name, price
+                                     in loop.prices.source_price_per_kmol.items()})
 
 
 def _price(loop: Loop, factor: float, **fields) -> Loop:
@@ -260,7 +256,7 @@ def break_even(alternatives: list[Alternative]) -> list[dict]:
         solver = LoopLP(alt.loop)
 
         def gap(price, alt=alt, g=g, solver=solver):
-            opt = optimise(with_source_price(alt.loop, g, price), details=False, reuse=solver)
+            opt = optimise(with_source_prices(alt.loop, {g: price}), details=False, reuse=solver)
             if not opt.feasible:
                 raise RuntimeError(opt.message)
             return opt.state.tac_per_year - target

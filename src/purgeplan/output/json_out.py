@@ -12,7 +12,8 @@ import math
 from pathlib import Path
 
 from .. import __version__
-from ..loop import Loop, stream_conditions
+from ..equations import stream_conditions
+from ..loop import Loop
 from ..solve import Optimum
 from .atomic import write_atomically
 
@@ -45,7 +46,7 @@ def alternative_record(name: str, loop: Loop, opt: Optimum, choices: dict | None
     rec.update({
         "purge_fraction": s.purge_fraction,
         "inert_fraction_reactor_inlet": s.inert_fraction_reactor_inlet,
-        "per_pass_conversion": s.per_pass_conversion,
+        "per_pass_conversion": s.first_reaction_conversion,
         "overall_conversion": s.overall_conversion,
         "tac_per_year": s.tac_per_year,
         "cost_per_tonne_product": s.cost_per_tonne_product,

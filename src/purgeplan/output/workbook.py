@@ -39,7 +39,7 @@ from openpyxl.workbook.defined_name import DefinedName
 from openpyxl.worksheet.worksheet import Worksheet
 
 from .. import costs
-from ..loop import stream_conditions
+from ..equations import stream_conditions
 from ..study import Alternative, StudyResult
 from .atomic import write_atomically
 
@@ -80,7 +80,7 @@ UNITS = (
 
 STREAM_LABELS = {
     "makeup": "Make-up gas",
-    "liquid_feed": "Direct feed to reactor",
+    "direct_feed": "Direct feed to reactor",
     "reactor_feed": "Reactor feed",
     "reactor_outlet": "Reactor outlet",
     "liquid_product": "Liquid product",
@@ -500,7 +500,7 @@ def _ranking_sheet(ws: Worksheet, study: StudyResult, refs: _Refs) -> None:
             s = opt.state
             _number(ws, row, 5, s.purge_fraction, FMT_FRACTION)
             _number(ws, row, 6, s.inert_fraction_reactor_inlet, FMT_FRACTION)
-            _number(ws, row, 7, s.per_pass_conversion, FMT_FRACTION)
+            _number(ws, row, 7, s.first_reaction_conversion, FMT_FRACTION)
             _number(ws, row, 8, s.overall_conversion, FMT_FRACTION)
             _formula(ws, row, 9, refs.tac[i], FMT_MONEY)
             _formula(ws, row, 10, f"I{row}/{refs.tonnes[i]}", FMT_MONEY_2)

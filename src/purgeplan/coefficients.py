@@ -1,0 +1,99 @@
+"""Coefficients of the loop equations that depend on the state: physics at the current flows.
+
+The balances of :mod:`purgeplan.equations` are linear once these are fixed:
+the recycle compressor's work per kmol (from the gas's heat-capacity ratio),
+the catalyst volume per kmol/h of reactor feed, and the equilibrium
+conversion of each reaction at the reactor inlet composition.  The inner
+fixed point (:mod:`purgeplan.fixed_point`) converges them.
+"""
+
+from __future__ import annotations
+
+import math
+from collections.abc import Mapping
+
+import numpy as np
+
+from .loop import Loop, Reaction
+from .physics import compression, reactor, thermo
+from .physics import equilibrium as eq
+from .properties import ComponentData
+
+
+def mixture_heat_capacity_ratio(composition: Mapping[str, float],
+                                data: Mapping[str, ComponentData], temperature_k: float) -> float:
+    """Ideal-gas gamma of a mixture from mole-fraction-weighted Cp [-]."""
+    total = sum(composition.values())
+    cp = sum(y * thermo.cp_ideal_gas_j_mol_k(data[c].cp_coefficients, temperature_k)
+             for c, y in composition.items()) / total
+    return thermo.heat_capacity_ratio(cp)
+
+
+def recycle_work_kj_kmol(loop: Loop, recycle_composition: Mapping[str, float]) -> float:
+    """Isentropic work per kmol of recycle gas over the loop pressure drop [kJ/kmol]."""
+    gamma = mixture_heat_capacity_ratio(recycle_composition, loop.data,
+                                        loop.recycle_inlet_temperature_k)
+    ratio = loop.pressure_bar / (loop.pressure_bar - loop.pressure_drop_bar)
+    return compression.isentropic_work_kj_kmol(loop.recycle_inlet_temperature_k, ratio, gamma, 1)
+
+
+def catalyst_volume_per_feed_m3_h_kmol(loop: Loop, conversion: Mapping[int, float]) -> float:
+    """Catalyst volume per kmol/h of reactor feed [m3 h/kmol].
+
+    A sized reaction uses the reversible first-order plug-flow relation
+    calibrated at its reference point; otherwise the set space velocity.
+    """
+    i = loop.sized_reaction
+    if i is None:
+        return reactor.catalyst_volume_from_space_velocity_m3(1.0, loop.space_velocity_per_h)
+    s = loop.reactions[i].sizing
+    g = reactor.first_order_reversible_pfr_ktau
+    return (s["reference_volume_m3"] / s["reference_feed_kmol_h"]
+            * g(conversion[i], s["equilibrium_conversion"])
+            / g(s["reference_conversion"], s["equilibrium_conversion"]))
+
+
+def equilibrium_rhs(r: Reaction, temperature_k: float, pressure_bar: float) -> float:
+    """Right-hand side of the equilibrium condition of one reaction [-].
+
+    ln K(T) - dnu ln(P/P0) - sum nu ln phi - ln K_phi, with P0 = 1 atm for the
+    Gillespie-Beattie correlation (Ka in atm^-1) and 1 bar for formation data.
+    Fixed for a loop: evaluated once when the loop is built.
+    """
+    t, p_bar = temperature_k, pressure_bar
+    if r.equilibrium_method == "ammonia_gillespie_beattie":
+        ln_k = (math.log(10.0) * eq.log10_ka_ammonia_gillespie_beattie(t)
+                * r.stoichiometry["NH3"])
+        p_rel = p_bar / eq.ATM_BAR
+    else:
+        ln_k = eq.ln_k_from_formation(r.delta_h_298_j_mol, r.delta_s_298_j_mol_k,
+                                      r.delta_cp_coefficients, t)
+        p_rel = p_bar
+    dnu = sum(r.stoichiometry.values())
+    rhs = ln_k - dnu * math.log(p_rel) - math.log(r.fugacity_correction_factor)
+    if r.fugacity == "dyson_simon":
+        phi = eq.dyson_simon_fugacity_coefficients(t, p_bar / eq.ATM_BAR)
+        rhs -= eq.ln_fugacity_term(r.stoichiometry, phi)
+    return rhs
+
+
+def equilibrium_conversions(loop: Loop, inlet_kmol_h: Mapping[str, float]) -> dict[int, float]:
+    """Equilibrium conversion of the key reactant of each reaction with equilibrium data [-].
+
+    Reactions are solved simultaneously at the reactor inlet composition.
+    """
+    idx = [i for i, r in enumerate(loop.reactions) if r.equilibrium_method is not None]
+    if not idx:
+        return {}
+    comps = loop.components
+    nu = np.array([[loop.reactions[i].stoichiometry.get(c, 0.0) for c in comps] for i in idx])
+    rhs = np.array([loop.reactions[i].equilibrium_rhs for i in idx])
+    n0 = np.array([max(inlet_kmol_h[c], 0.0) for c in comps])
+    if n0.sum() <= 0.0:
+        return {i: 0.0 for i in idx}
+    xi = eq.equilibrium_extents_kmol_h(n0, nu, rhs)
+    out = {}
+    for j, i in enumerate(idx):
+        r = loop.reactions[i]
+        out[i] = float(xi[j] * r.key_coefficient / max(inlet_kmol_h[r.key_reactant], 1e-300))
+    return out

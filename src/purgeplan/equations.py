@@ -1,0 +1,221 @@
+"""The loop equations, stated once, and the quantities that follow from the flows.
+
+The equation families below are written over any algebra that supports
+``+``, ``-`` and ``*``: the Pyomo model (:mod:`purgeplan.model`) applies them to
+Pyomo variables, and the direct steady-state solver (:mod:`purgeplan.engine`)
+applies them to linear forms to obtain the same equations as a matrix.  Each
+family returns ``(index, residual)`` pairs; every residual must equal zero.
+Stream names are those of :mod:`purgeplan.loop`.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Callable, Mapping
+from dataclasses import dataclass
+
+from .loop import KELVIN, Loop
+from .physics import compression
+
+
+@dataclass
+class LoopVariables:
+    """The unknowns and design variables the equations are written over.
+
+    ``flow[stream, component]`` [kmol/h], ``extent[r]`` [kmol/h],
+    ``source[name]`` [kmol/h]; ``purge_fraction`` a [-] and ``conversion[r]``
+    per-pass conversion of each reaction's key reactant [-].  Each may be a
+    number, a linear form or a Pyomo component.
+    """
+
+    flow: Mapping
+    extent: Mapping
+    source: Mapping
+    purge_fraction: object
+    conversion: Mapping
+
+
+def makeup_blend(v: LoopVariables, loop: Loop):
+    """Make-up (and direct feed) from the sources: F_c = sum_s f_s y_s,c."""
+    for stream, enters in (("makeup", "makeup"), ("direct_feed", "reactor_feed")):
+        if stream not in loop.streams:
+            continue
+        for c in loop.components:
+            blend = sum(v.source[s.name] * s.composition[c] for s in loop.sources
+                        if s.enters == enters and s.composition[c] != 0.0)
+            yield (stream, c), v.flow[stream, c] - blend
+
+
+def mixer_balance(v: LoopVariables, loop: Loop):
+    """Reactor feed M_c = F_c + R_c (+ direct feed + recovery return)."""
+    inflows = [s for s in ("makeup", "direct_feed", "recycle", "recovery_return")
+               if s in loop.streams]
+    for c in loop.components:
+        yield c, v.flow["reactor_feed", c] - sum(v.flow[s, c] for s in inflows)
+
+
+def reactor_balance(v: LoopVariables, loop: Loop):
+    """Reactor outlet S_c = M_c + sum_r nu_rc xi_r."""
+    for c in loop.components:
+        made = sum(r.stoichiometry[c] * v.extent[i] for i, r in enumerate(loop.reactions)
+                   if c in r.stoichiometry)
+        yield c, v.flow["reactor_outlet", c] - v.flow["reactor_feed", c] - made
+
+
+def reaction_extent(v: LoopVariables, loop: Loop):
+    """Extent from per-pass conversion of the key reactant: xi_r = X_r M_k / |nu_k|."""
+    for i, r in enumerate(loop.reactions):
+        yield i, v.extent[i] - v.conversion[i] * v.flow["reactor_feed", r.key_reactant] * (
+            1.0 / r.key_coefficient)
+
+
+def separator_split(v: LoopVariables, loop: Loop):
+    """Liquid L_c = s_c S_c; a condensing product: V_p = beta sum_{c != p} V_c; V = S - L."""
+    for c in loop.components:
+        if c == loop.condensing:
+            others = sum(v.flow["separator_vapour", o] for o in loop.components if o != c)
+            yield ("liquid", c), (v.flow["separator_vapour", c]
+                                  - loop.condensate_vapour_ratio * others)
+        else:
+            yield ("liquid", c), (v.flow["liquid_product", c]
+                                  - loop.liquid_fraction[c] * v.flow["reactor_outlet", c])
+        yield ("vapour", c), (v.flow["separator_vapour", c] - v.flow["reactor_outlet", c]
+                              + v.flow["liquid_product", c])
+
+
+def purge_split(v: LoopVariables, loop: Loop):
+    """Purge P_c = a V_c and recycle R_c = V_c - P_c."""
+    for c in loop.components:
+        yield ("purge", c), v.flow["purge", c] - v.purge_fraction * v.flow["separator_vapour", c]
+        yield ("recycle", c), (v.flow["recycle", c] - v.flow["separator_vapour", c]
+                               + v.flow["purge", c])
+
+
+def recovery_split(v: LoopVariables, loop: Loop):
+    """Recovery return Q_c = rho_c P_c to the make-up; tail gas P_c - Q_c."""
+    if loop.recovery_return_fraction is None:
+        return
+    for c in loop.components:
+        rho = loop.recovery_return_fraction[c]
+        yield ("return", c), v.flow["recovery_return", c] - rho * v.flow["purge", c]
+        yield ("tail", c), (v.flow["recovery_tail_gas", c] - v.flow["purge", c]
+                            + v.flow["recovery_return", c])
+
+
+def basis(v: LoopVariables, loop: Loop):
+    """Fixed production of the product in the liquid, or a fixed make-up rate."""
+    if loop.basis == "production":
+        yield "production", v.flow["liquid_product", loop.product] - loop.production_kmol_h
+    else:
+        yield "makeup", sum(v.source[s.name] for s in loop.makeup_sources) - loop.makeup_kmol_h
+
+
+def inlet_ratio(v: LoopVariables, loop: Loop):
+    """Reactor-inlet ratios M_num = value M_den (one per direct feed)."""
+    for i, (num, den, value) in enumerate(loop.inlet_ratios):
+        yield i, v.flow["reactor_feed", num] - value * v.flow["reactor_feed", den]
+
+
+#: Every equation family of the loop, in the order they are stated.
+EQUATION_FAMILIES: tuple[Callable, ...] = (
+    makeup_blend, mixer_balance, reactor_balance, reaction_extent, separator_split,
+    purge_split, recovery_split, basis, inlet_ratio)
+
+
+# ---------------------------------------------------------------------------
+# quantities that follow from the flows (also stated once)
+
+
+def recycle_compressor_power_kw(v: LoopVariables, loop: Loop, work_kj_kmol):
+    """Recycle compressor shaft power for the loop pressure drop [kW]."""
+    total = sum(v.flow["recycle", c] for c in loop.components)
+    return compression.shaft_power_kw(total, work_kj_kmol, loop.recycle_efficiency)
+
+
+def makeup_compressor_power_kw(v: LoopVariables, loop: Loop):
+    """Make-up compressor shaft power, supply to loop pressure [kW]."""
+    return sum(compression.shaft_power_kw(v.source[s.name], s.compression_work_kj_kmol,
+                                          loop.makeup_efficiency)
+               for s in loop.makeup_sources if s.compression_work_kj_kmol > 0.0)
+
+
+def reactor_feed_kmol_h(v: LoopVariables, loop: Loop):
+    """Total reactor feed [kmol/h]."""
+    return sum(v.flow["reactor_feed", c] for c in loop.components)
+
+
+def reactor_volume_m3(v: LoopVariables, loop: Loop, catalyst_volume_per_feed_m3_h_kmol):
+    """Catalyst volume, proportional to the reactor feed at fixed conversion [m3]."""
+    return catalyst_volume_per_feed_m3_h_kmol * reactor_feed_kmol_h(v, loop)
+
+
+def inert_kmol_h_reactor_inlet(v: LoopVariables, loop: Loop):
+    """Inerts in the reactor feed [kmol/h]."""
+    return sum(v.flow["reactor_feed", c] for c in loop.inerts)
+
+
+def disposal_kmol_h(v: LoopVariables, loop: Loop):
+    """Purge gas leaving the loop (after recovery, if any) [kmol/h]."""
+    return sum(v.flow[loop.disposal_stream, c] for c in loop.components)
+
+
+def disposal_heat_gj_h(v: LoopVariables, loop: Loop):
+    """Lower heating value carried by the purge gas leaving the loop [GJ/h]."""
+    return sum(v.flow[loop.disposal_stream, c] * (loop.data[c].lhv_kj_mol / 1000.0)
+               for c in loop.components if loop.data[c].lhv_kj_mol > 0.0)
+
+
+def product_t_h(v: LoopVariables, loop: Loop):
+    """Product in the liquid [t/h]."""
+    return v.flow["liquid_product", loop.product] * (loop.product_molar_mass / 1000.0)
+
+
+def recovery_feed_kmol_h(v: LoopVariables, loop: Loop):
+    """Purge gas treated by the recovery unit [kmol/h]."""
+    return sum(v.flow["purge", c] for c in loop.components)
+
+
+def stream_conditions(loop: Loop) -> dict[str, tuple[float, float]]:
+    """Pressure [bar abs] and temperature [degC] of every stream.
+
+    The make-up and direct feeds after compression (or pumping) to loop
+    pressure at their supply temperature, the reactor at its (isothermal)
+    temperature and loop pressure, the separator and everything leaving it
+    at separator temperature and loop pressure less the loop pressure drop,
+    the recycle after its compressor (at its inlet temperature, aftercooled).
+    """
+    p, t_sep = loop.pressure_bar, loop.separator_temperature_k - KELVIN
+    low = p - loop.pressure_drop_bar
+    t_reactor = loop.reactor_temperature_k - KELVIN
+    feeds = {g: [s for s in loop.sources if s.enters == g] for g in ("makeup", "reactor_feed")}
+    out = {
+        "makeup": (p, min((s.temperature_c for s in feeds["makeup"]), default=t_sep)),
+        "direct_feed": (p, min((s.temperature_c for s in feeds["reactor_feed"]), default=t_sep)),
+        "reactor_feed": (p, t_reactor), "reactor_outlet": (p, t_reactor),
+        "liquid_product": (low, t_sep), "separator_vapour": (low, t_sep), "purge": (low, t_sep),
+        "recycle": (p, loop.recycle_inlet_temperature_k - KELVIN),
+        "recovery_return": (low, t_sep), "recovery_tail_gas": (low, t_sep)}
+    return {s: out[s] for s in loop.streams}
+
+
+def quantities(v: LoopVariables, loop: Loop, work_kj_kmol, catalyst_volume_per_feed) -> dict:
+    """Every physical quantity a cost line or a limit refers to, by key.
+
+    ``work_kj_kmol`` is the recycle compressor's isentropic work per kmol and
+    ``catalyst_volume_per_feed`` the catalyst volume per kmol/h of reactor feed
+    [m3 h/kmol] (numbers or Pyomo parameters).
+    """
+    q = {f"source_kmol_h:{s.name}": v.source[s.name] for s in loop.sources}
+    q.update({
+        "purge_fraction": v.purge_fraction,
+        "recycle_compressor_power_kw": recycle_compressor_power_kw(v, loop, work_kj_kmol),
+        "makeup_compressor_power_kw": makeup_compressor_power_kw(v, loop),
+        "reactor_volume_m3": reactor_volume_m3(v, loop, catalyst_volume_per_feed),
+        "reactor_feed_kmol_h": reactor_feed_kmol_h(v, loop),
+        "inert_kmol_h_reactor_inlet": inert_kmol_h_reactor_inlet(v, loop),
+        "disposal_heat_gj_h": disposal_heat_gj_h(v, loop),
+        "disposal_kmol_h": disposal_kmol_h(v, loop),
+        "product_t_h": product_t_h(v, loop),
+        "recovery_feed_kmol_h": recovery_feed_kmol_h(v, loop),
+    })
+    q.update({f"per_pass_conversion:{i}": v.conversion[i] for i in range(len(loop.reactions))})
+    return q

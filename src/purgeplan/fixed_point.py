@@ -1,0 +1,167 @@
+"""The inner fixed point: per-pass conversions and recycle work converged at fixed design.
+
+With the purge fraction (and a sized reactor's conversion) fixed, the loop
+balances are linear once the state-dependent coefficients of
+:mod:`purgeplan.coefficients` are fixed.  :func:`converge` alternates a
+linear solve (the direct engine, or HiGHS in the reduced space) with a fresh
+evaluation of those coefficients until they stop moving.  An equilibrium
+reactor runs at approach x X_eq(inlet composition), found by a secant step on
+the residual.  Both the direct engine and the optimiser use this one function.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Callable, Mapping
+from dataclasses import dataclass
+
+from . import coefficients
+from .errors import NoSteadyStateError
+from .loop import Loop
+
+#: A linear solve at fixed conversions and recycle work: flows, extents and
+#: source flows, or None when the solver proves the point infeasible.
+LinearSolve = Callable[[dict[int, float], float | None], tuple | None]
+
+
+@dataclass
+class Converged:
+    """A converged inner fixed point."""
+
+    conversion: dict[int, float]
+    equilibrium_conversion: dict[int, float]
+    recycle_work_kj_kmol: float
+    flows: dict[str, dict[str, float]]
+    extents: list[float]
+    sources: dict[str, float]
+    iterations: int
+
+
+def initial_conversions(loop: Loop, given: Mapping[int, float] | None = None) -> dict[int, float]:
+    """Starting per-pass conversions: fixed values, the sized reference, half of equilibrium."""
+    out = {}
+    for i, r in enumerate(loop.reactions):
+        if given and i in given:
+            out[i] = float(given[i])
+        elif r.per_pass == "fixed":
+            out[i] = r.per_pass_conversion
+        elif r.per_pass == "sized":
+            out[i] = r.sizing["reference_conversion"]
+        else:
+            out[i] = 0.5 * r.approach_to_equilibrium
+    return out
+
+
+def secant_step(history: list, x: float, residual: float) -> float:
+    """Next iterate of x = x + residual(x) by the secant method over the last two points.
+
+    The iterate is kept inside (1e-9, 0.999999), the range of a conversion.
+    """
+    history.append((x, residual))
+    if len(history) >= 2 and history[-1][1] != history[-2][1]:
+        (x0, g0), (x1, g1) = history[-2], history[-1]
+        x = x1 - g1 * (x1 - x0) / (g1 - g0)
+    else:
+        x = x + residual
+    return min(max(x, 1e-9), 0.999999)
+
+
+def converge(loop: Loop, solve: LinearSolve, conversion: Mapping[int, float],
+             work_kj_kmol: float | None = None, *, tolerance: float = 1e-13,
+             max_iterations: int = 200, work_matters: bool = False) -> Converged | None:
+    """Converge per-pass conversions (and recycle work) at fixed design variables.
+
+    Parameters
+    ----------
+    loop : Loop
+    solve : callable
+        ``solve(conversion, work)`` returns ``(flows, extents, sources)`` or
+        None when the linear problem is infeasible.
+    conversion : mapping
+        Starting per-pass conversion of each reaction [-]; fixed and sized
+        reactions keep theirs.
+    work_kj_kmol : float, optional
+        Starting recycle work [kJ/kmol], needed only if ``work_matters``.
+    tolerance : float
+        On the equilibrium residual and, if ``work_matters``, on the relative
+        change of the recycle work.
+    work_matters : bool
+        Whether the linear solve uses the recycle work (an LP with freedom or a
+        recycle power limit); otherwise the work is evaluated on the final flows.
+
+    Returns
+    -------
+    Converged or None
+        None when ``solve`` proves the point infeasible.
+
+    Raises
+    ------
+    NoSteadyStateError
+        A stream would carry a negative flow, a fixed or sized conversion lies
+        above equilibrium, or the fixed point does not converge.
+    """
+    x = dict(conversion)
+    work = work_kj_kmol
+    history: dict[int, list] = {}
+    physical_x = None
+    for iteration in range(1, max_iterations + 1):
+        solved = solve(x, work)
+        if solved is None:
+            return None
+        flows, extents, sources = solved
+        if _negative(flows):
+            if physical_x is None:
+                raise NoSteadyStateError(_unphysical(flows))
+            # an overshooting iterate: step back towards the last physical one
+            x = {i: 0.5 * (x[i] + physical_x[i]) for i in x}
+            history.clear()
+            continue
+        physical_x = dict(x)
+        new_work = coefficients.recycle_work_kj_kmol(
+            loop, _composition(flows["separator_vapour"]))
+        eq_x = coefficients.equilibrium_conversions(loop, flows["reactor_feed"])
+        change = 0.0
+        if work_matters:
+            change = 1.0 if work is None else abs(new_work - work) / max(new_work, 1e-12)
+        new_x = dict(x)
+        for i, xe in eq_x.items():
+            r = loop.reactions[i]
+            if r.per_pass == "equilibrium":
+                residual = r.approach_to_equilibrium * xe - x[i]
+                change = max(change, abs(residual))
+                new_x[i] = secant_step(history.setdefault(i, []), x[i], residual)
+        if change < tolerance:
+            _check_below_equilibrium(loop, x, eq_x)
+            return Converged(x, eq_x, work if work_matters else new_work, flows, extents,
+                             sources, iteration)
+        x, work = new_x, new_work
+    raise NoSteadyStateError("the per-pass conversion did not converge in "
+                             f"{max_iterations} fixed-point steps")
+
+
+def _check_below_equilibrium(loop: Loop, x: Mapping[int, float],
+                             eq_x: Mapping[int, float]) -> None:
+    for i, xe in eq_x.items():
+        r = loop.reactions[i]
+        if r.per_pass != "equilibrium" and x[i] > xe:
+            raise NoSteadyStateError(
+                f"the per-pass conversion {x[i]:.4g} of '{r.name}' is above its equilibrium "
+                f"conversion {xe:.4g} at the reactor inlet")
+
+
+def _negative(flows) -> list:
+    scale = max(1.0, abs(sum(flows["reactor_feed"].values())))
+    return [(s, c) for s, fl in flows.items() for c, f in fl.items() if f < -1e-9 * scale]
+
+
+def _unphysical(flows) -> str:
+    s, c = _negative(flows)[0]
+    return (f"no physical steady state: stream {s} would carry {flows[s][c]:.4g} kmol/h of {c}"
+            + (" (the separator cannot condense the product at this inert level)"
+               if s == "liquid_product" else ""))
+
+
+def _composition(flow: Mapping[str, float]) -> dict[str, float]:
+    total = sum(max(f, 0.0) for f in flow.values())
+    if total <= 0:
+        return {c: 1.0 / len(flow) for c in flow}
+    return {c: max(f, 0.0) / total for c, f in flow.items()}
