@@ -34,6 +34,7 @@ class Converged:
     extents: list[float]
     sources: dict[str, float]
     iterations: int
+    slopes: dict[int, float]
 
 
 def initial_conversions(loop: Loop, given: Mapping[int, float] | None = None) -> dict[int, float]:
@@ -51,23 +52,37 @@ def initial_conversions(loop: Loop, given: Mapping[int, float] | None = None) ->
     return out
 
 
-def secant_step(history: list, x: float, residual: float) -> float:
-    """Next iterate of x = x + residual(x) by the secant method over the last two points.
+def secant_step(history: list, x: float, residual: float, slope: float | None = None) -> float:
+    """Next iterate of residual(x) = 0 by the secant method over the last two points.
 
-    The iterate is kept inside (1e-9, 0.999999), the range of a conversion.
+    The first step uses ``slope`` (d residual / dx, for instance from a
+    neighbouring design point) where given, else the plain fixed-point step
+    x + residual(x).  The iterate is kept inside (1e-9, 0.999999), the range
+    of a conversion.
     """
     history.append((x, residual))
     if len(history) >= 2 and history[-1][1] != history[-2][1]:
         (x0, g0), (x1, g1) = history[-2], history[-1]
         x = x1 - g1 * (x1 - x0) / (g1 - g0)
+    elif slope is not None and slope < 0.0:
+        x = x - residual / slope
     else:
         x = x + residual
     return min(max(x, 1e-9), 0.999999)
 
 
+def _slope(history: list) -> float | None:
+    """d residual / dx from the last two points of a secant history, if known."""
+    if len(history) < 2 or history[-1][0] == history[-2][0]:
+        return None
+    (x0, g0), (x1, g1) = history[-2], history[-1]
+    return (g1 - g0) / (x1 - x0)
+
+
 def converge(loop: Loop, solve: LinearSolve, conversion: Mapping[int, float],
              work_kj_kmol: float | None = None, *, tolerance: float = 1e-13,
-             max_iterations: int = 200, work_matters: bool = False) -> Converged | None:
+             max_iterations: int = 200, work_matters: bool = False,
+             slopes: Mapping[int, float] | None = None) -> Converged | None:
     """Converge per-pass conversions (and recycle work) at fixed design variables.
 
     Parameters
@@ -87,6 +102,9 @@ def converge(loop: Loop, solve: LinearSolve, conversion: Mapping[int, float],
     work_matters : bool
         Whether the linear solve uses the recycle work (an LP with freedom or a
         recycle power limit); otherwise the work is evaluated on the final flows.
+    slopes : mapping, optional
+        d(residual)/d(conversion) of each equilibrium reaction for the first
+        secant step, as returned in :attr:`Converged.slopes` at a nearby point.
 
     Returns
     -------
@@ -128,11 +146,14 @@ def converge(loop: Loop, solve: LinearSolve, conversion: Mapping[int, float],
             if r.per_pass == "equilibrium":
                 residual = r.approach_to_equilibrium * xe - x[i]
                 change = max(change, abs(residual))
-                new_x[i] = secant_step(history.setdefault(i, []), x[i], residual)
+                new_x[i] = secant_step(history.setdefault(i, []), x[i], residual,
+                                       (slopes or {}).get(i))
         if change < tolerance:
             _check_below_equilibrium(loop, x, eq_x)
+            known = {i: _slope(h) for i, h in history.items()}
             return Converged(x, eq_x, work if work_matters else new_work, flows, extents,
-                             sources, iteration)
+                             sources, iteration,
+                             {i: v for i, v in known.items() if v is not None})
         x, work = new_x, new_work
     raise NoSteadyStateError("the per-pass conversion did not converge in "
                              f"{max_iterations} fixed-point steps")

@@ -79,6 +79,7 @@ class LoopLP:
         self.converged: list[tuple[float, dict]] = []
         self.conversion = initial_conversions(loop)
         self.work: float | None = None
+        self.slopes: dict[int, float] = {}
         self.sizes: dict[str, float] = {}
         self.direct_solves = 0
         self.solver_options = solver_options
@@ -182,9 +183,10 @@ class LoopLP:
         solve = self._highs(purge_fraction) if self.use_highs else self._direct(purge_fraction)
         done = converge(self.loop, solve, x, self.work, tolerance=self.tolerance,
                         max_iterations=self.max_iterations,
-                        work_matters=work_matters and self.use_highs)
+                        work_matters=work_matters and self.use_highs, slopes=self.slopes)
         if done is None:
             return None
+        self.slopes.update(done.slopes)
         if work_matters:
             self.work = done.recycle_work_kj_kmol
         return self._state(purge_fraction, done)

@@ -51,7 +51,12 @@ def feasibility_edge(f, margin, feasible_x: float, infeasible_x: float, xtol_rel
 def scan_and_refine(f, lo: float, hi: float, points: int, xtol_rel: float, margin=None):
     """Global minimum of f on [lo, hi]: log grid, feasibility edges, bounded Brent.
 
-    f returns inf where infeasible.  Returns (x_best, f_best, samples).
+    f returns inf where infeasible.  The best grid point and its neighbours
+    bracket the minimum; a neighbour that is infeasible is replaced by the
+    feasibility edge between them.  Where the bracket ends at the box or at
+    a feasibility edge and f rises from that end, the end is the minimum;
+    otherwise bounded Brent search in log x refines it to ``xtol_rel``.
+    Returns (x_best, f_best, samples) with every point evaluated.
     """
     margin = margin or (lambda _x: None)
     seen: dict[float, float] = {}
@@ -70,15 +75,37 @@ def scan_and_refine(f, lo: float, hi: float, points: int, xtol_rel: float, margi
     i = min(finite, key=lambda k: vals[k])
     left = grid[i - 1] if i > 0 else grid[i]
     right = grid[i + 1] if i < points - 1 else grid[i]
-    if i > 0 and not math.isfinite(vals[i - 1]):
+    hard = []  # ends of the bracket beyond which nothing is allowed
+    if i == 0:
+        hard.append((left, 1.0))
+    elif not math.isfinite(vals[i - 1]):
         left = feasibility_edge(fx, margin, grid[i], grid[i - 1], xtol_rel)
-    if i < points - 1 and not math.isfinite(vals[i + 1]):
+        hard.append((left, 1.0))
+    if i == points - 1:
+        hard.append((right, -1.0))
+    elif not math.isfinite(vals[i + 1]):
         right = feasibility_edge(fx, margin, grid[i], grid[i + 1], xtol_rel)
-    if right > left:
-        minimize_scalar(fx, bounds=(left, right), method="bounded",
-                        options={"xatol": xtol_rel * left, "maxiter": 200})
+        hard.append((right, -1.0))
+    if right > left and not any(_minimum_at_end(fx, end, inward, vals[i], xtol_rel)
+                                for end, inward in hard):
+        # in log x, where a relative tolerance is an absolute one
+        minimize_scalar(lambda u: fx(math.exp(u)), bounds=(math.log(left), math.log(right)),
+                        method="bounded", options={"xatol": xtol_rel, "maxiter": 200})
         fx(left)
         fx(right)
     best_x, best_f = min(((x, v) for x, v in seen.items() if math.isfinite(v)),
                          key=lambda t: t[1])
     return best_x, best_f, sorted(seen.items())
+
+
+def _minimum_at_end(f, end: float, inward: float, f_grid: float, xtol_rel: float) -> bool:
+    """Whether the minimum of a unimodal bracket sits at its end ``end``.
+
+    True when f at the end is no worse than the best grid point and f rises
+    one tolerance step inside: the same unimodality within the bracket that
+    Brent's refinement assumes then puts the minimum at the end.
+    """
+    f_end = f(end)
+    if not (math.isfinite(f_end) and f_end <= f_grid):
+        return False
+    return f(end * math.exp(inward * xtol_rel)) >= f_end

@@ -35,7 +35,7 @@ from .search import scan_and_refine
 log = logging.getLogger(__name__)
 
 #: Points of the log-spaced scan over the purge-fraction box.
-SCAN_POINTS = 17
+SCAN_POINTS = 11
 #: Points of the scan over a sized reactor's conversion at each purge fraction.
 SIZED_SCAN_POINTS = 9
 

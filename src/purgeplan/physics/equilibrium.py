@@ -152,16 +152,7 @@ def equilibrium_extents_kmol_h(inlet_kmol_h: np.ndarray, stoichiometry: np.ndarr
         return nu @ np.log(np.maximum(n, floor)) - dnu * math.log(n.sum()) - rhs
 
     if nu.shape[0] == 1:
-        row = nu[0]
-        hi = min((n0[i] / -row[i] for i in range(len(row)) if row[i] < 0), default=np.inf)
-        lo = -min((n0[i] / row[i] for i in range(len(row)) if row[i] > 0), default=np.inf)
-        span = hi - lo
-        a, b = lo + 1e-12 * span, hi - 1e-12 * span
-        fa, fb = residual(np.array([a]))[0], residual(np.array([b]))[0]
-        if fa * fb > 0:
-            return np.array([b if fa < 0 else a])
-        return np.array([brentq(lambda x: residual(np.array([x]))[0], a, b,
-                                xtol=max(1e-14 * scale, 1e-300), rtol=1e-14, maxiter=200)])
+        return np.array([_single_extent(n0.tolist(), nu[0].tolist(), float(rhs[0]), floor)])
 
     xi = np.zeros(nu.shape[0])
     for _ in range(200):
@@ -181,3 +172,30 @@ def equilibrium_extents_kmol_h(inlet_kmol_h: np.ndarray, stoichiometry: np.ndarr
 def ln_fugacity_term(stoichiometry: Mapping[str, float], fugacity: Mapping[str, float]) -> float:
     """sum_i nu_i ln phi_i over the species that have a fugacity coefficient [-]."""
     return sum(nu * math.log(fugacity[c]) for c, nu in stoichiometry.items() if c in fugacity)
+
+
+def _single_extent(n0: list, row: list, rhs: float, floor: float) -> float:
+    """Equilibrium extent of one reaction (the residual above in plain floats) [kmol/h].
+
+    Brent's root on the extent between the limits set by the species that
+    run out; at a limit where the residual keeps its sign that limit is the
+    answer (the reaction goes as far as it can).
+    """
+    active = [(n, v) for n, v in zip(n0, row, strict=True) if v != 0.0]
+    total0, dnu = sum(n0), sum(row)
+    log = math.log
+
+    def residual(x: float) -> float:
+        s = 0.0
+        for n, v in active:
+            s += v * log(max(n + v * x, floor))
+        return s - dnu * log(total0 + dnu * x) - rhs
+
+    hi = min((n / -v for n, v in active if v < 0), default=math.inf)
+    lo = -min((n / v for n, v in active if v > 0), default=math.inf)
+    span = hi - lo
+    a, b = lo + 1e-12 * span, hi - 1e-12 * span
+    fa, fb = residual(a), residual(b)
+    if fa * fb > 0:
+        return b if fa < 0 else a
+    return brentq(residual, a, b, xtol=max(1e-14 * total0, 1e-300), rtol=1e-14, maxiter=200)
