@@ -1,0 +1,148 @@
+"""The solve layer's parts against each other: HiGHS adapter routes, solve routes, the fixed point.
+
+Each check compares two independent routes to the same answer (the direct linear
+solve of the loop equations and HiGHS; HiGHS re-run directly and through Pyomo's
+public ``solve()``), or an end-to-end behaviour of the command line.
+"""
+
+from __future__ import annotations
+
+import tomllib
+
+import pyomo.environ as pyo
+import pytest
+from conftest import case_toml, loop_from_text
+
+import purgeplan
+from purgeplan import build_loop
+from purgeplan.case import validate_case_dict
+from purgeplan.cli import main
+from purgeplan.errors import Status
+from purgeplan.highs_adapter import PersistentLP
+from purgeplan.model import build_model
+from purgeplan.reduced_space import ROUTE_DIRECT, ROUTE_HIGHS, LoopLP
+from purgeplan.solve import optimise
+
+SMALL = tomllib.loads(case_toml(makeup={"H2": 0.745, "N2": 0.2483333333, "Ar": 0.0066666667},
+                                liquid_fraction={"NH3": 0.9}, basis="production",
+                                production_t_d=500.0, separator_temperature_c=-10.0))
+
+
+def _blend_loop():
+    """Two make-up grades, the cheaper one with a supply limit: the LP keeps freedom."""
+    raw = {**SMALL, "sources": {
+        "gas": {**SMALL["sources"]["gas"], "supply_limit_kmol_h": 1500.0},
+        "pure": {"composition": {"H2": 0.75, "N2": 0.25}, "price_per_kmol": 2.9,
+                 "supply_pressure_bar": 30.0}}}
+    return build_loop(validate_case_dict(raw), "blend")
+
+
+def _solution(model) -> list[float]:
+    return [v.value for v in model.component_data_objects(pyo.Var) if not v.fixed]
+
+
+def _set_design(m, purge_fraction: float) -> None:
+    m.purge_fraction = purge_fraction
+    m.conversion[0] = 0.25
+    m.recycle_work_kj_kmol = 250.0
+    m.catalyst_volume_per_feed_m3_h_kmol = 1e-4
+    m.limit_relaxation = 0.0
+
+
+def test_direct_highs_rerun_matches_the_public_solve():
+    """Re-solves run on the HiGHS instance directly give the public solve()'s answer."""
+    loop = _blend_loop()
+    direct, public = build_model(loop), build_model(loop)
+    lp_direct, lp_public = PersistentLP(direct), PersistentLP(public, direct=False)
+    for a in (0.01, 0.02, 0.05, 0.003):
+        _set_design(direct, a)
+        _set_design(public, a)
+        assert lp_direct.solve() is Status.OPTIMAL
+        assert lp_public.solve() is Status.OPTIMAL
+        assert _solution(direct) == pytest.approx(_solution(public), rel=1e-9, abs=1e-9)
+        assert pyo.value(direct.tac) == pytest.approx(pyo.value(public.tac), rel=1e-12)
+    assert lp_direct.routes == {"public solve()": 1, "direct run()": 3}
+    assert lp_public.routes == {"public solve()": 4}
+
+
+def test_direct_route_falls_back_when_the_interface_hides_its_instance():
+    loop = _blend_loop()
+    m = build_model(loop)
+    lp = PersistentLP(m)
+    _set_design(m, 0.02)
+    lp.solve()
+    lp._highs = lambda: None  # an interface that does not expose its HiGHS instance
+    _set_design(m, 0.04)
+    assert lp.solve() is Status.OPTIMAL
+    assert lp.routes == {"public solve()": 2}
+
+
+def test_square_lp_by_direct_solve_agrees_with_highs():
+    """With no freedom left the direct linear solve and HiGHS find the same optimum."""
+    loop = build_loop(validate_case_dict(SMALL), "square")
+    auto, highs = optimise(loop), optimise(loop, route="highs")
+    assert auto.solver.route == ROUTE_DIRECT and highs.solver.route == ROUTE_HIGHS
+    assert auto.state.route == ROUTE_DIRECT and highs.state.route == ROUTE_HIGHS
+    assert auto.state.tac_per_year == pytest.approx(highs.state.tac_per_year, rel=1e-9)
+    assert auto.state.purge_fraction == pytest.approx(highs.state.purge_fraction, rel=1e-5)
+    assert "direct linear solve" in auto.solver.method
+    assert "HiGHS LP" in highs.solver.method
+
+
+def test_blend_goes_to_highs():
+    opt = optimise(_blend_loop())
+    assert opt.status is Status.OPTIMAL and opt.solver.route == ROUTE_HIGHS
+
+
+@pytest.mark.parametrize("route", ["auto", "highs"])
+def test_reduced_space_state_is_the_engine_steady_state(route):
+    """The optimiser's evaluation and the engine share one fixed point: same answer.
+
+    Equilibrium reactor of the ammonia demo (Gillespie-Beattie with Dyson-Simon
+    fugacities), at two purge fractions."""
+    case, _ = purgeplan.load_case(purgeplan.cli.data_file("cases", "ammonia_demo.toml"))
+    name, _, alt = purgeplan.expand_alternatives(case)[-1]
+    loop = build_loop(alt, name)
+    solver = LoopLP(loop, route=route)
+    for a in (0.004, 0.012):
+        mine = solver.evaluate(a, enforce_limits=False)
+        engine = purgeplan.steady_state(loop, a)
+        assert mine.conversion[0] == pytest.approx(engine.conversion[0], abs=1e-9)
+        assert mine.tac_per_year == pytest.approx(engine.tac_per_year, rel=1e-8)
+
+
+# -- an alternative with no steady state anywhere ---------------------------------------
+
+def _hopeless_text() -> str:
+    """At 0 degC and 77 bar the separator vapour holds about 5.6 % NH3 (see test_engine);
+    purging at least 30 % of it at 0.4 % per-pass conversion removes more NH3 than the
+    reactor makes, so no purge fraction the case allows gives a liquid product."""
+    text = case_toml(makeup={"H2": 0.7425, "N2": 0.2475, "Ar": 0.01},
+                     liquid_fraction={"NH3": "condensation"},
+                     reaction='per_pass = "fixed"\nper_pass_conversion = 0.004',
+                     pressure_bar=80.0, purge_fraction=0.4)
+    return text.replace("purge_fraction = 0.4\n",
+                        "purge_fraction = 0.4\npurge_fraction_min = 0.3\n")
+
+
+def test_no_steady_state_anywhere_is_an_infeasible_alternative():
+    opt = optimise(loop_from_text(_hopeless_text()))
+    assert opt.status is Status.INFEASIBLE
+    assert "no physical steady state" in opt.message and "liquid_product" in opt.message
+
+
+def test_optimize_reports_the_hopeless_alternative_and_solves_the_other(tmp_path, capsys):
+    usual = ('{ name = "synthesis", stoichiometry = { N2 = -1, H2 = -3, NH3 = 2 }, '
+             'key_reactant = "N2", per_pass = "fixed", per_pass_conversion = 0.25 }')
+    text = _hopeless_text() + f"""
+[options.conversion.low]
+[options.conversion.usual]
+reactions = [{usual}]
+"""
+    path = tmp_path / "two.toml"
+    path.write_text(text)
+    code = main(["optimize", str(path)])
+    out = capsys.readouterr().out
+    assert code == 3
+    assert "INFEASIBLE: no physical steady state" in out
+    assert "conversion=usual" in out and out.count("\n") >= 3
