@@ -279,7 +279,8 @@ def _sized_loop(feed):
 
 
 def _levenspiel(x, x_e):
-    """k tau = X_e ln(X_e / (X_e - X)) (Levenspiel, 3rd ed.; from memory)."""
+    """k tau = X_e ln(X_e / (X_e - X)) (Levenspiel, 3rd ed.; from memory;
+    docs/references.md section 6)."""
     return x_e * math.log(x_e / (x_e - x))
 
 

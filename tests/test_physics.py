@@ -1,8 +1,9 @@
 """Physics functions against published values.
 
-Every reference number below is taken from /work/shared/REFERENCES.md and keeps the
-mark it has there: "seen" (read in a stored copy of the published text), "derived"
-(computed from seen inputs), "from memory" (not confirmed) or "common practice".
+Every reference number below is listed in docs/references.md, with its full citation
+and what each test compares, and keeps the mark it has there: "seen" (read in a stored
+copy of the published text), "derived" (computed from seen inputs), "from memory" (not
+confirmed) or "common practice".
 """
 
 from __future__ import annotations
@@ -29,19 +30,21 @@ LN10 = math.log(10.0)
 # ---------------------------------------------------------------------------
 # ammonia synthesis equilibrium, 1/2 N2 + 3/2 H2 = NH3
 
-# Gillespie and Beattie (1930) correlation, log10(Ka / atm^-1) (derived in REFERENCES.md
-# from the coefficients seen in three independent reproductions).
+# Gillespie and Beattie (1930) correlation, log10(Ka / atm^-1) (derived, docs/references.md
+# section 1.1, from the coefficients seen in three independent reproductions).
 GB_LOG10_KA_DERIVED = {600.0: -1.4170, 700.0: -2.0552, 800.0: -2.5465, 900.0: -2.9362}
 
 # NIST-JANAF Thermochemical Tables, 4th ed. (Chase 1998): Gibbs energy of formation of
-# NH3(g) [kJ/mol] (seen).
+# NH3(g) [kJ/mol] (seen; docs/references.md section 1.2).
 JANAF_DGF_NH3_KJ_MOL = {600.0: 15.879, 700.0: 27.190, 800.0: 38.662, 900.0: 50.247}
 
-# CODATA enthalpy of formation of NH3(g) at 298.15 K [kJ/mol] (seen, NIST WebBook).
+# CODATA enthalpy of formation of NH3(g) at 298.15 K [kJ/mol] (seen, NIST WebBook;
+# docs/references.md section 3).
 CODATA_HF_NH3_KJ_MOL = -45.94
 
 # Equilibrium mol % NH3 for a 3:1 H2:N2 gas, Larson and Dodge (1923) and Larson (1924)
-# (seen only as a reproduced table), keyed by (T / degC, P / atm).
+# (seen only as a reproduced table; docs/references.md section 1.3), keyed by
+# (T / degC, P / atm).
 LARSON_DODGE_MOL_PCT = {
     (300.0, 10.0): 14.7, (300.0, 100.0): 52.0, (300.0, 300.0): 71.0,
     (400.0, 10.0): 3.9, (400.0, 100.0): 25.1, (400.0, 300.0): 47.0,
@@ -124,7 +127,7 @@ def test_formation_data_k_with_codata_enthalpy_against_janaf(make_loop, temperat
 def test_formation_data_k_against_gillespie_beattie(make_loop, temperature_k):
     """Formation-data K against the Gillespie-Beattie correlation converted to bar.
 
-    Tolerance 10 % on K (REFERENCES.md: about 10 % is fair for the correlation).
+    Tolerance 10 % on K (docs/references.md section 1.2: about 10 % is fair for the correlation).
     Measured: the correlation is 1.4 to 2.5 % below the formation-data K.
     """
     r = _formation_reaction(make_loop)
@@ -134,10 +137,11 @@ def test_formation_data_k_against_gillespie_beattie(make_loop, temperature_k):
 
 @pytest.mark.parametrize("temperature_k", sorted(JANAF_DGF_NH3_KJ_MOL))
 def test_gillespie_beattie_against_janaf(temperature_k):
-    """The correlation (bar basis) against JANAF: tolerance 10 % on K (REFERENCES.md).
+    """The correlation (bar basis) against JANAF: tolerance 10 % on K (docs/references.md
+    section 1.2).
 
     Measured: 8.9 % low at 600 K to 5.8 % low at 900 K, i.e. 0.040 to 0.026 log10 units,
-    as REFERENCES.md states.
+    as docs/references.md section 1.2 states.
     """
     k_ratio = math.exp(_ln_k_gillespie_beattie_bar(temperature_k) - _ln_k_janaf(temperature_k))
     assert k_ratio == pytest.approx(1.0, abs=0.10)
@@ -166,7 +170,7 @@ def _equilibrium_mol_pct_nh3(temperature_c, pressure_atm, real_gas):
 def test_equilibrium_ammonia_real_gas_against_larson_dodge(point):
     """Gillespie-Beattie K with Dyson-Simon fugacity coefficients at 100 and 300 atm.
 
-    Tolerance 1.5 mol % points absolute: K is uncertain by about 10 % (REFERENCES.md), and
+    Tolerance 1.5 mol % points absolute: K is uncertain by about 10 % (docs/references.md), and
     a 10 % change in K moves the equilibrium NH3 by about 1 point here (0.8 to 1.6 points
     computed at these six conditions).  Measured: within 1.22 points (largest at 300 degC,
     100 atm: 53.22 against 52.0).
@@ -179,7 +183,8 @@ def test_equilibrium_ammonia_real_gas_against_larson_dodge(point):
 @pytest.mark.parametrize("temperature_c", [300.0, 400.0, 500.0])
 def test_ideal_gas_falls_short_at_300_atm(temperature_c):
     """Without the fugacity correction the equilibrium NH3 at 300 atm is more than 3 points
-    below Larson and Dodge (REFERENCES.md, derived: 41.7 against 47.0 at 400 degC).
+    below Larson and Dodge (docs/references.md section 1.3, derived: 41.7 against 47.0 at
+    400 degC).
     Measured shortfall: 4.4, 5.3 and 4.3 points at 300, 400 and 500 degC."""
     got = _equilibrium_mol_pct_nh3(temperature_c, 300.0, real_gas=False)
     assert LARSON_DODGE_MOL_PCT[(temperature_c, 300.0)] - got > 3.0
@@ -187,14 +192,16 @@ def test_ideal_gas_falls_short_at_300_atm(temperature_c):
 
 @pytest.mark.parametrize("point", LOW_PRESSURE_POINTS)
 def test_ideal_gas_at_10_atm_against_larson_dodge(point):
-    """At 10 atm the ideal-gas calculation suffices (REFERENCES.md: within about 3 %).
+    """At 10 atm the ideal-gas calculation suffices (docs/references.md section 1.3:
+    within about 3 %).
     Tolerance 0.3 points; measured within 0.14 points."""
     got = _equilibrium_mol_pct_nh3(point[0], point[1], real_gas=False)
     assert got == pytest.approx(LARSON_DODGE_MOL_PCT[point], abs=0.3)
 
 
 def test_ideal_gas_at_400_c_matches_the_derived_values():
-    # REFERENCES.md (derived): the ideal-gas calculation gives 23.7 at 400 degC, 100 atm
+    # docs/references.md section 1.3 (derived): the ideal-gas calculation gives 23.7 at
+    # 400 degC, 100 atm
     # and 41.7 at 300 atm; both quoted to one decimal.
     assert _equilibrium_mol_pct_nh3(400.0, 100.0, real_gas=False) == pytest.approx(23.7, abs=0.05)
     assert _equilibrium_mol_pct_nh3(400.0, 300.0, real_gas=False) == pytest.approx(41.7, abs=0.05)
@@ -228,12 +235,15 @@ def test_loop_equilibrium_route_against_larson_dodge(make_loop, point):
 
 
 @pytest.mark.parametrize(("name", "lhv_kj_mol", "tol_kj_mol", "lhv_mj_kg", "tol_mj_kg"), [
+    # docs/references.md section 2.
     # H2: 242 kJ/mol and 119.96 MJ/kg (seen, citing NIST); tolerance half a unit of the
     # last quoted digit for kJ/mol, one unit for MJ/kg (the molar mass used is unknown).
     ("H2", 242.0, 0.5, 119.96, 0.01),
-    # CH4: 802.7 kJ/mol, 50.04 MJ/kg; CO: 282.98 kJ/mol, 10.10 MJ/kg (REFERENCES.md,
-    # NIST values).  Tolerance 0.05 %: formation-enthalpy compilations differ at that
-    # level (the library's Hf(CH4) -74.534 against JANAF -74.87, seen, is 0.34 kJ/mol).
+    # CO: 282.98 kJ/mol, 10.10 MJ/kg (derived from the NIST formation enthalpies);
+    # CH4: 802.7 kJ/mol, 50.04 MJ/kg (from memory; the same formation enthalpies give
+    # 802.29, derived).  Tolerance 0.05 %: formation-enthalpy compilations differ at that
+    # level (the library's Hf(CH4) -74.534 against JANAF -74.87, seen, is 0.34 kJ/mol),
+    # and it admits both 802.7 and 802.29.
     ("CH4", 802.7, 0.0005 * 802.7, 50.04, 0.0005 * 50.04),
     ("CO", 282.98, 0.0005 * 282.98, 10.10, 0.005),
 ])
@@ -253,7 +263,7 @@ H2_EXAMPLE_INLET_K = 20.0 + KELVIN
 
 def test_isentropic_work_single_stage():
     # Hydrogen Generation, Storage and Utilization, eq 5.16 (seen): 1 mol H2, 1 atm and
-    # 20 degC to 70 MPa, gamma 1.4: 46.71 kJ (REFERENCES.md; derived from the seen
+    # 20 degC to 70 MPa, gamma 1.4: 46.71 kJ (docs/references.md section 4; derived from the seen
     # equation).  kJ/kmol is numerically J/mol; tolerance one unit of the last digit
     # (10 J/mol), since the gas constant of the example is not stated.
     work = compression.isentropic_work_kj_kmol(H2_EXAMPLE_INLET_K, H2_EXAMPLE_RATIO, 1.4, 1)
@@ -261,7 +271,8 @@ def test_isentropic_work_single_stage():
 
 
 def test_isentropic_work_two_stages():
-    # Same example, two stages with equal ratios and intercooling, eq 5.18 (seen):
+    # Same example (docs/references.md section 4), two stages with equal ratios and
+    # intercooling, eq 5.18 (seen):
     # 26.35 kJ (derived), and "about 56 %" of the one-stage work (seen).
     one = compression.isentropic_work_kj_kmol(H2_EXAMPLE_INLET_K, H2_EXAMPLE_RATIO, 1.4, 1)
     two = compression.isentropic_work_kj_kmol(H2_EXAMPLE_INLET_K, H2_EXAMPLE_RATIO, 1.4, 2)
@@ -274,6 +285,7 @@ def test_isentropic_work_two_stages():
 
 
 @pytest.mark.parametrize(("rate", "years", "expected"), [
+    # docs/references.md section 5.1
     (0.10, 10.0, 0.16275),   # published CRF table (seen)
     (0.08, 10.0, 0.14903),   # published CRF table (seen)
     (0.10, 20.0, 0.11746),   # derived
@@ -284,7 +296,8 @@ def test_capital_recovery_factor(rate, years, expected):
 
 
 def test_scaled_capital_cost_silla_example():
-    # Silla, Chemical Process Engineering: Design and Economics (2003), p. 76 (seen):
+    # Silla, Chemical Process Engineering: Design and Economics (2003), p. 76 (seen;
+    # docs/references.md section 5.2):
     # 1.4e4 at size 1000 scaled to 63 with exponent 0.65 costs 2,321, and 2,387 with a
     # cost-index ratio 382.8/372.2.  Quoted to the unit: half a unit of tolerance.
     assert economics.scaled_capital_cost(1.4e4, 63.0, 1000.0, 0.65) == pytest.approx(
@@ -294,7 +307,8 @@ def test_scaled_capital_cost_silla_example():
 
 
 def test_scaled_capital_cost_turton_doubling():
-    # Turton et al., 3rd ed., Example 7.3 (seen): doubling capacity with exponent 0.6
+    # Turton et al., 3rd ed., Example 7.3 (seen; docs/references.md section 5.2):
+    # doubling capacity with exponent 0.6
     # raises the cost by 52 % (quoted to the percent).
     ratio = economics.scaled_capital_cost(1.0, 2.0, 1.0, 0.6)
     assert ratio == pytest.approx(1.52, abs=0.005)
@@ -305,6 +319,7 @@ def test_scaled_capital_cost_turton_doubling():
 
 
 def test_first_order_reversible_pfr():
+    # docs/references.md section 6.
     # k tau = X_e ln(X_e / (X_e - X)) (Levenspiel, 3rd ed., from memory); X_e = 0.8,
     # X = 0.6 gives 1.109 (derived).  Three decimals: half a unit of the last one.
     assert reactor.first_order_reversible_pfr_ktau(0.6, 0.8) == pytest.approx(1.109, abs=5e-4)
