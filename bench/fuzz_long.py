@@ -25,6 +25,7 @@ import sys
 import tempfile
 import time
 from collections import Counter, defaultdict
+from dataclasses import dataclass, field
 from pathlib import Path
 
 ROOT = Path(__file__).resolve().parents[1]
@@ -98,7 +99,7 @@ def solver_reason(stdout: str) -> str:
     return "(no reason on stdout)"
 
 
-def main(argv: list[str] | None = None) -> int:
+def _arguments(argv: list[str] | None) -> argparse.Namespace:
     p = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     p.add_argument("--cases", type=int, default=5000, help="cases through check [5000]")
     p.add_argument("--optimize", type=int, default=50,
@@ -113,78 +114,97 @@ def main(argv: list[str] | None = None) -> int:
                    help="share of cases that only scale a few numbers (mostly valid) [0.2]")
     p.add_argument("--save", type=Path, help="folder for the case files that broke the contract")
     p.add_argument("--show", type=int, default=3, help="examples shown per violation [3]")
-    args = p.parse_args(argv)
+    return p.parse_args(argv)
 
+
+@dataclass
+class Tally:
+    """What the runs found, by exit status and reason."""
+
+    statuses: Counter = field(default_factory=Counter)
+    reasons: Counter = field(default_factory=Counter)
+    infeasible: Counter = field(default_factory=Counter)
+    opt_statuses: Counter = field(default_factory=Counter)
+    failures: Counter = field(default_factory=Counter)
+    violations: dict = field(default_factory=lambda: defaultdict(list))
+    optimised: int = 0
+
+
+def _check_one(tally: Tally, i: int, case, path: Path) -> int:
+    status, out, err = fuzz.run_in_process(["check", str(path)])
+    tally.statuses[status] += 1
+    problem = fuzz.contract_violation(status, out, err, fuzz.CHECK_OK)
+    if problem:
+        tally.violations[f"check: {problem}: {reason_of(err)}"].append((i, case, err))
+    elif status == 2:
+        tally.reasons[reason_of(err)] += 1
+    elif status == 3:
+        tally.infeasible[reason_of(err)] += 1
+    return status
+
+
+def _optimize_one(tally: Tally, worker, args, i: int, case, path: Path) -> None:
+    tally.optimised += 1
+    argv = ["optimize", str(path), "--alternative", fuzz.first_alternative(case),
+            "--time-limit", str(args.time_limit)]
+    result = worker.run(argv, args.time_limit * 3 + 30)
+    if result is None:
+        tally.opt_statuses["no answer"] += 1
+        tally.violations["optimize: no answer (a hang)"].append((i, case, ""))
+        return
+    status, out, err = result
+    tally.opt_statuses[status] += 1
+    problem = fuzz.contract_violation(status, out, err, fuzz.OPTIMIZE_OK)
+    if problem:
+        tally.violations[f"optimize: {problem}: {reason_of(err)}"].append((i, case, err))
+    elif status == 4:
+        tally.failures[solver_reason(out)] += 1
+
+
+def _run(args) -> tuple[Tally, float]:
     chooser = fuzz.RandomChooser(random.Random(args.seed))
-    statuses: Counter = Counter()
-    reasons: Counter = Counter()
-    infeasible: Counter = Counter()
-    opt_statuses: Counter = Counter()
-    failures: Counter = Counter()
-    violations: dict[str, list] = defaultdict(list)
-    optimised = 0
+    tally = Tally()
     started = time.perf_counter()
     worker = fuzz.CliWorker()
     with tempfile.TemporaryDirectory() as tmp:
-        folder = Path(tmp)
-        path = folder / "case.toml"
+        path = Path(tmp) / "case.toml"
         for i in range(args.cases):
             if chooser.rng.random() < args.perturbed:
                 case = fuzz.perturb_case(chooser)
             else:
                 case = fuzz.make_case(chooser, max_depth=args.max_depth)
             path.write_bytes(case.data)
-            status, out, err = fuzz.run_in_process(["check", str(path)])
-            statuses[status] += 1
-            problem = fuzz.contract_violation(status, out, err, fuzz.CHECK_OK)
-            if problem:
-                violations[f"check: {problem}: {reason_of(err)}"].append((i, case, err))
-            elif status == 2:
-                reasons[reason_of(err)] += 1
-            elif status == 3:
-                infeasible[reason_of(err)] += 1
-            if status in (0, 3) and optimised < args.optimize:
-                optimised += 1
-                argv = ["optimize", str(path), "--alternative", fuzz.first_alternative(case),
-                        "--time-limit", str(args.time_limit)]
-                result = worker.run(argv, args.time_limit * 3 + 30)
-                if result is None:
-                    opt_statuses["no answer"] += 1
-                    violations["optimize: no answer (a hang)"].append((i, case, ""))
-                    continue
-                status, out, err = result
-                opt_statuses[status] += 1
-                problem = fuzz.contract_violation(status, out, err, fuzz.OPTIMIZE_OK)
-                if problem:
-                    violations[f"optimize: {problem}: {reason_of(err)}"].append((i, case, err))
-                elif status == 4:
-                    failures[solver_reason(out)] += 1
+            status = _check_one(tally, i, case, path)
+            if status in (0, 3) and tally.optimised < args.optimize:
+                _optimize_one(tally, worker, args, i, case, path)
             if (i + 1) % 1000 == 0:
                 print(f"... {i + 1} cases, {time.perf_counter() - started:.0f} s",
                       file=sys.stderr)
     worker.close()
-    seconds = time.perf_counter() - started
+    return tally, time.perf_counter() - started
 
+
+def _report(args, tally: Tally, seconds: float) -> int:
     print(f"tried {args.cases} cases through check in {seconds:.1f} s (seed {args.seed}, "
           f"max depth {args.max_depth})")
-    for status in sorted(statuses):
-        print(f"  exit {status}: {statuses[status]}")
-    print(f"\nrefused (exit 2) by reason, {sum(reasons.values())} cases:")
-    for reason, n in reasons.most_common():
+    for status in sorted(tally.statuses):
+        print(f"  exit {status}: {tally.statuses[status]}")
+    print(f"\nrefused (exit 2) by reason, {sum(tally.reasons.values())} cases:")
+    for reason, n in tally.reasons.most_common():
         print(f"  {n:6d}  {reason}")
-    if infeasible:
-        print(f"\ninfeasible (exit 3) by reason, {sum(infeasible.values())} cases:")
-        for reason, n in infeasible.most_common():
+    if tally.infeasible:
+        print(f"\ninfeasible (exit 3) by reason, {sum(tally.infeasible.values())} cases:")
+        for reason, n in tally.infeasible.most_common():
             print(f"  {n:6d}  {reason}")
-    print(f"\noptimize --alternative <first> on {optimised} valid cases: "
-          + ", ".join(f"exit {s}: {n}" for s, n in sorted(opt_statuses.items(), key=str)))
-    for reason, n in failures.most_common():
+    print(f"\noptimize --alternative <first> on {tally.optimised} valid cases: "
+          + ", ".join(f"exit {s}: {n}" for s, n in sorted(tally.opt_statuses.items(), key=str)))
+    for reason, n in tally.failures.most_common():
         print(f"  {n:6d}  exit 4: {reason}")
-    if not violations:
+    if not tally.violations:
         print("\ncontract violations: none")
         return 0
-    print(f"\ncontract violations: {sum(len(v) for v in violations.values())}")
-    for kind, hits in sorted(violations.items(), key=lambda kv: -len(kv[1])):
+    print(f"\ncontract violations: {sum(len(v) for v in tally.violations.values())}")
+    for kind, hits in sorted(tally.violations.items(), key=lambda kv: -len(kv[1])):
         print(f"  {len(hits):6d}  {kind}")
         for i, case, err in hits[: args.show]:
             print(f"          case {i}: {case.describe()[:300]}")
@@ -194,6 +214,12 @@ def main(argv: list[str] | None = None) -> int:
             for i, case, _ in hits[: args.show]:
                 (args.save / f"case_{i}.toml").write_bytes(case.data)
     return 1
+
+
+def main(argv: list[str] | None = None) -> int:
+    args = _arguments(argv)
+    tally, seconds = _run(args)
+    return _report(args, tally, seconds)
 
 
 if __name__ == "__main__":

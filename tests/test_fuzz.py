@@ -285,64 +285,78 @@ def mutate_doc(ch, doc: dict, log: list[str], max_depth: int = DOC_DEPTH) -> dic
         op = "add_key"
     if op in ("delete", "rename", "copy_key"):
         parent_path, parent = ch.choice([d for d in _dicts(doc) if d[1]] or [((), doc)])
-        if not parent:
-            op = "add_key"
-        else:
-            key = ch.choice(list(parent))
-            where = ".".join(map(str, parent_path + (key,)))
-            if op == "delete":
-                del parent[key]
-                log.append(f"delete {where}")
-            else:
-                new = _rename(ch, str(key))
-                if op == "rename":
-                    parent[new] = parent.pop(key)
-                else:
-                    parent[new] = copy.deepcopy(parent[key])
-                log.append(f"{op} {where} -> {new!r}")
+        if parent:
+            _mutate_key(ch, op, parent_path, parent, log)
             return doc
+        op = "add_key"
     if op in ("number", "scale", "wrong_type", "empty", "list", "swap"):
-        path, value = ch.choice(all_nodes)
-        parent = get_at(doc, path[:-1])
-        where = ".".join(map(str, path))
-        if op == "number":
-            new = ch.choice(SPECIAL_NUMBERS) if ch.boolean() else ch.floating()
-        elif op == "scale" and isinstance(value, int | float) and not isinstance(value, bool):
-            new = value * ch.choice([-1, 0, 1e-9, 1e-3, 0.1, 0.5, 0.999999, 1.000001, 2, 10,
-                                     1e3, 1e9, 1e300])
-        elif op == "empty":
-            new = type(value)() if isinstance(value, dict | list | str) else ""
-        elif op == "list" and isinstance(value, list) and value:
-            new = list(value)
-            if ch.boolean():
-                new.append(copy.deepcopy(ch.choice(value)))
-            else:
-                new.pop(ch.integer(0, len(new) - 1))
-        elif op == "swap":
-            other = ch.choice(all_nodes)[1]
-            new = copy.deepcopy(other)
-        else:
-            new = copy.deepcopy(ch.choice(WRONG_TYPES))
-        try:
-            parent[path[-1]] = new
-        except (IndexError, TypeError):
-            return doc
-        log.append(f"{op} {where} = {_brief(new)}")
-        return doc
-    if op == "add_key":
+        _mutate_value(ch, op, doc, all_nodes, log)
+    elif op == "add_key":
         parent_path, parent = ch.choice(_dicts(doc))
         key = ch.choice(MANY_KEYS) if ch.boolean() else ch.text(8)
         parent[key] = copy.deepcopy(ch.choice(WRONG_TYPES + SPECIAL_NUMBERS))
         log.append(f"add {'.'.join(map(str, parent_path + (key,)))!s} = {_brief(parent[key])}")
-        return doc
-    if op == "deep":
+    elif op == "deep":
         parent_path, parent = ch.choice(_dicts(doc))
         depth = ch.integer(1, min(max_depth, DOC_DEPTH))
         kind = ch.choice(["dict", "list"])
         parent["nest"] = _deep(ch, depth, kind)
         log.append(f"deep {kind} of depth {depth} at {'.'.join(map(str, parent_path)) or '/'}")
-        return doc
-    # options: patch a base-case section through a structural option
+    else:
+        _patch_through_option(ch, doc, log)
+    return doc
+
+
+def _mutate_key(ch, op: str, parent_path: tuple, parent: dict, log: list[str]) -> None:
+    """Delete, rename or copy one key of a table."""
+    key = ch.choice(list(parent))
+    where = ".".join(map(str, parent_path + (key,)))
+    if op == "delete":
+        del parent[key]
+        log.append(f"delete {where}")
+        return
+    new = _rename(ch, str(key))
+    if op == "rename":
+        parent[new] = parent.pop(key)
+    else:
+        parent[new] = copy.deepcopy(parent[key])
+    log.append(f"{op} {where} -> {new!r}")
+
+
+def _new_value(ch, op: str, value: Any, all_nodes: list) -> Any:
+    """A replacement for one value: a number, a scaled, emptied, shortened or foreign value."""
+    if op == "number":
+        return ch.choice(SPECIAL_NUMBERS) if ch.boolean() else ch.floating()
+    if op == "scale" and isinstance(value, int | float) and not isinstance(value, bool):
+        return value * ch.choice([-1, 0, 1e-9, 1e-3, 0.1, 0.5, 0.999999, 1.000001, 2, 10,
+                                  1e3, 1e9, 1e300])
+    if op == "empty":
+        return type(value)() if isinstance(value, dict | list | str) else ""
+    if op == "list" and isinstance(value, list) and value:
+        new = list(value)
+        if ch.boolean():
+            new.append(copy.deepcopy(ch.choice(value)))
+        else:
+            new.pop(ch.integer(0, len(new) - 1))
+        return new
+    if op == "swap":
+        return copy.deepcopy(ch.choice(all_nodes)[1])
+    return copy.deepcopy(ch.choice(WRONG_TYPES))
+
+
+def _mutate_value(ch, op: str, doc: dict, all_nodes: list, log: list[str]) -> None:
+    path, value = ch.choice(all_nodes)
+    parent = get_at(doc, path[:-1])
+    new = _new_value(ch, op, value, all_nodes)
+    try:
+        parent[path[-1]] = new
+    except (IndexError, TypeError):
+        return
+    log.append(f"{op} {'.'.join(map(str, path))} = {_brief(new)}")
+
+
+def _patch_through_option(ch, doc: dict, log: list[str]) -> None:
+    """Patch a base-case section through a structural option."""
     targets = [(p, v) for p, v in nodes(doc) if len(p) <= 3 and p[0] != "options"
                and not any(isinstance(k, int) for k in p)]
     target_path, target = ch.choice(targets or [(("loop",), {})])
@@ -356,7 +370,6 @@ def mutate_doc(ch, doc: dict, log: list[str], max_depth: int = DOC_DEPTH) -> dic
         doc["options"] = {}
     doc["options"]["fuzz"] = {"a": patch, "b": {}}
     log.append(f"option fuzz.a patches {'.'.join(map(str, target_path))}")
-    return doc
 
 
 def _brief(value: Any) -> str:

@@ -168,9 +168,6 @@ def test_margin_unknown_falls_back_to_bisection():
     assert samples == bisected
 
 
-@pytest.mark.xfail(strict=True, reason="when the function is already infeasible at the root "
-                   "of the margin, the step back to the feasible side moves a thousandth of "
-                   "the distance to the grid point, far more than the tolerance")
 def test_edge_within_tolerance_when_infeasible_at_the_root():
     edge = 0.0213
     f = lambda x: log_parabola(0.9)(x) if x < edge else math.inf  # noqa: E731

@@ -32,13 +32,19 @@ def feasibility_edge(f, margin, feasible_x: float, infeasible_x: float, xtol_rel
             return value if value is not None else 1.0
         x = brentq(g, feasible_x, infeasible_x, xtol=xtol_rel * min(feasible_x, infeasible_x),
                    rtol=1e-12)
-        # step to the feasible side of the root within the tolerance
-        for _ in range(60):
-            if math.isfinite(f(x)):
-                return x
-            x = x + (feasible_x - x) * 1e-3 if abs(feasible_x - x) > 0 else feasible_x
-        return feasible_x
-    a, b = feasible_x, infeasible_x
+        if math.isfinite(f(x)):
+            return x
+        # the root's own point is just infeasible: half a tolerance towards the feasible side,
+        # else bisection between the feasible point and the root
+        inward = x * math.exp(math.copysign(0.5 * xtol_rel, feasible_x - x))
+        if math.isfinite(f(inward)):
+            return inward
+        infeasible_x = x
+    return _bisect(f, feasible_x, infeasible_x, xtol_rel)
+
+
+def _bisect(f, a: float, b: float, xtol_rel: float) -> float:
+    """Bisection for the feasibility edge between feasible a and infeasible b."""
     while abs(b - a) > xtol_rel * min(a, b):
         mid = 0.5 * (a + b)
         if math.isfinite(f(mid)):
