@@ -28,7 +28,7 @@ from .engine import steady_state
 from .errors import InfeasibleError, NoSteadyStateError, SolverFailure, Status
 from .loop import Loop
 from .model import build_model
-from .reduced_space import LoopLP
+from .reduced_space import ROUTE_DIRECT, LoopLP
 from .results import LoopState, with_balances
 from .search import scan_and_refine
 
@@ -82,7 +82,7 @@ def _method(loop: Loop, solver: LoopLP, scan_points: int, xtol_rel: float, solve
         text += (f"; per-pass conversion searched the same way in [{s['conversion_min']:g}, "
                  f"{s['conversion_max']:g}] at each purge fraction")
     route = ("the LP has no freedom left, so each point is its single feasible solution, found "
-             "by the direct linear solve of the loop equations" if solver.route != "HiGHS LP"
+             "by the direct linear solve of the loop equations" if solver.route == ROUTE_DIRECT
              else "HiGHS LP at every point")
     return (text + f"; {route} ({solves} solves), inner fixed point on per-pass conversion "
             f"and recycle work to {LoopLP.tolerance:g}")
