@@ -2,6 +2,10 @@
 alternative at a time: property data resolved, sources, separator, recovery
 unit and prices gathered, and the fixed equilibrium terms evaluated at the
 reactor's temperature and pressure.
+
+Building finds no fault in the case: every check, those that need property
+data included (:mod:`purgeplan.case_checks`), ran when the case was
+validated, so a validated case always builds.
 """
 
 from __future__ import annotations
@@ -10,86 +14,18 @@ import dataclasses
 from collections.abc import Mapping
 
 from .case import CapitalItem, Case
+from .case_checks import component_data, condensate_vapour_ratio, formation_terms
 from .coefficients import equilibrium_rhs, mixture_heat_capacity_ratio
-from .errors import CaseError
 from .loop import KELVIN, Capital, Loop, Prices, Reaction, Source
-from .physics import compression, separation, thermo
-from .properties import ComponentData, lookup
+from .physics import compression
+from .properties import ComponentData
 
 
-def resolve_components(case: Case) -> dict[str, ComponentData]:
-    """Property data for every declared component, case overrides first."""
-    out = {}
-    for name, spec in case.components.items():
-        ident = spec.identifier or name
-        try:
-            cas, formula, atoms, mw, lhv, hf, s0, cp, psat = lookup(ident)
-        except LookupError:
-            if spec.molar_mass_kg_kmol is None or spec.heat_capacity_j_mol_k is None:
-                raise CaseError(f"components.{name}",
-                                f"unknown component '{ident}': give identifier = a name, "
-                                "formula or CAS number the property library knows, or give "
-                                "molar_mass_kg_kmol and heat_capacity_j_mol_k") from None
-            cas, formula, atoms, mw, lhv, hf, s0, cp, psat = ("", "", (), 0.0, 0.0, None, None,
-                                                             None, None)
-        if spec.heat_capacity_j_mol_k is not None:
-            cp = (spec.heat_capacity_j_mol_k / thermo.R_J_MOL_K,)
-        if cp is None:
-            raise CaseError(f"components.{name}.heat_capacity_j_mol_k",
-                            "no ideal-gas heat capacity data for this component; give one")
-        out[name] = ComponentData(
-            name=name, cas=cas, formula=formula, atoms=atoms,
-            molar_mass_kg_kmol=spec.molar_mass_kg_kmol or mw,
-            lhv_kj_mol=(spec.lower_heating_value_kj_mol
-                        if spec.lower_heating_value_kj_mol is not None else lhv),
-            formation_enthalpy_kj_mol=(spec.formation_enthalpy_kj_mol
-                                       if spec.formation_enthalpy_kj_mol is not None else hf),
-            standard_entropy_j_mol_k=(spec.standard_entropy_j_mol_k
-                                      if spec.standard_entropy_j_mol_k is not None else s0),
-            cp_coefficients=tuple(cp), vapour_pressure_coefficients=psat)
-    return out
-
-
-def _element_balance(path: str, nu: Mapping[str, float], data: Mapping[str, ComponentData]):
-    if any(not data[c].atoms for c in nu):
-        return  # a component defined only by overrides has no formula to check
-    totals: dict[str, float] = {}
-    for c, coeff in nu.items():
-        for element, count in data[c].atoms:
-            totals[element] = totals.get(element, 0.0) + coeff * count
-    bad = {e: round(v, 9) for e, v in totals.items() if abs(v) > 1e-9}
-    if bad:
-        raise CaseError(path, f"reaction does not balance its elements: net {bad}")
-
-
-def _reaction(i: int, spec, data: Mapping[str, ComponentData]) -> Reaction:
-    path = f"reactions[{i}]"
-    nu = dict(spec.stoichiometry)
-    _element_balance(f"{path}.stoichiometry", nu, data)
+def _reaction(spec, data: Mapping[str, ComponentData]) -> Reaction:
     eq = spec.equilibrium
-    dh = ds = dcp = None
-    if eq is not None and eq.constant == "formation_data":
-        missing = [c for c in nu if data[c].formation_enthalpy_kj_mol is None
-                   or data[c].standard_entropy_j_mol_k is None]
-        if missing:
-            raise CaseError(f"components.{missing[0]}",
-                            "formation data missing: give formation_enthalpy_kj_mol and "
-                            "standard_entropy_j_mol_k")
-        dh = 1000.0 * sum(v * data[c].formation_enthalpy_kj_mol for c, v in nu.items())
-        ds = sum(v * data[c].standard_entropy_j_mol_k for c, v in nu.items())
-        width = max(len(data[c].cp_coefficients) for c in nu)
-        dcp = tuple(sum(v * (data[c].cp_coefficients + (0.0,) * width)[k] for c, v in nu.items())
-                    for k in range(width))
-    if eq is not None and eq.constant == "ammonia_gillespie_beattie":
-        ratio = nu.get("NH3", 0.0)
-        expected = {"N2": -0.5 * ratio, "H2": -1.5 * ratio, "NH3": ratio}
-        if ratio <= 0 or set(nu) != set(expected) or any(
-                abs(nu[c] - expected[c]) > 1e-12 for c in nu):
-            raise CaseError(f"{path}.equilibrium.constant",
-                            "ammonia_gillespie_beattie needs the reaction N2 + 3 H2 = 2 NH3 "
-                            "(any multiple), with components named N2, H2 and NH3")
+    dh, ds, dcp = formation_terms(spec, data)
     return Reaction(
-        name=spec.name, stoichiometry=nu, key_reactant=spec.key_reactant,
+        name=spec.name, stoichiometry=dict(spec.stoichiometry), key_reactant=spec.key_reactant,
         per_pass=spec.per_pass, per_pass_conversion=spec.per_pass_conversion,
         approach_to_equilibrium=spec.approach_to_equilibrium,
         equilibrium_method=eq.constant if eq else None,
@@ -113,12 +49,12 @@ def _capital(item: CapitalItem | None) -> Capital | None:
 
 def build_loop(case: Case, name: str = "") -> Loop:
     """Plain loop data from a validated case (one alternative)."""
-    data = resolve_components(case)
+    data = component_data(case)
     comps = tuple(sorted(case.components))
     t_reactor = case.reactor.temperature_c + KELVIN
-    reactions = tuple(_with_equilibrium_rhs(_reaction(i, r, data), t_reactor,
+    reactions = tuple(_with_equilibrium_rhs(_reaction(r, data), t_reactor,
                                             case.loop.pressure_bar)
-                      for i, r in enumerate(case.reactions))
+                      for r in case.reactions)
     reacting = {c for r in reactions for c in r.stoichiometry}
     inerts = tuple(c for c in comps if c not in reacting)
     loop_p = case.loop.pressure_bar
@@ -137,15 +73,7 @@ def build_loop(case: Case, name: str = "") -> Loop:
                               s.supply_limit_kmol_h, s.enters, work, s.temperature_c))
 
     split = case.separator.liquid_fraction
-    condensing = next((c for c, v in split.items() if v == "condensation"), None)
-    ratio = 0.0
-    if condensing is not None:
-        t_sep = case.separator.temperature_c + KELVIN
-        try:
-            psat = data[condensing].vapour_pressure_bar(t_sep)
-            ratio = separation.condensate_vapour_ratio(psat, loop_p - case.loop.pressure_drop_bar)
-        except ValueError as exc:
-            raise CaseError("separator.temperature_c", str(exc)) from None
+    condensing, ratio = condensate_vapour_ratio(case, data)
     liquid = {c: float(split.get(c, 0.0)) for c in comps if c != condensing}
 
     recovery = None

@@ -12,15 +12,17 @@ import copy
 import difflib
 import hashlib
 import itertools
-import json
 import re
 import tomllib
 import typing
+from collections.abc import Callable
 from pathlib import Path
 from typing import Annotated, Any, Literal
 
 from pydantic import BaseModel, ConfigDict, Field, ValidationError, model_validator
 
+from .case_checks import check_property_data
+from .case_checks import key_part as _key
 from .errors import CaseError
 
 
@@ -208,6 +210,7 @@ class Case(_Strict):
     @model_validator(mode="after")
     def _cross_checks(self):
         check_case(self)
+        check_property_data(self)
         return self
 
     @property
@@ -216,138 +219,222 @@ class Case(_Strict):
         return sorted(self.makeup_sources if self.makeup_sources is not None else self.sources)
 
 
-class _Located(ValueError):
-    """A cross-check failure that knows its key path (turned into CaseError)."""
-
-    def __init__(self, path: str, message: str):
-        self.path = path
-        super().__init__(message)
+#: Refuses a name that is not a declared component: need(key_path, name).
+_Need = Callable[[str, str], None]
 
 
 def check_case(case: Case) -> None:
-    """Cross-field checks that a schema cannot express; raises ``_Located``."""
-    comps = case.components
-    known = sorted(comps)
+    """Cross-field checks that a schema cannot express, section by section.
+
+    The checks that need property data follow in
+    :func:`purgeplan.case_checks.check_property_data`; both run whenever a
+    case is validated.
+
+    Raises
+    ------
+    CaseError
+        Naming the key path of the first failure.
+    """
+    need = _component_check(case)
+    _check_reactions(case, need)
+    _check_loop(case, need)
+    _check_separator(case, need)
+    _check_sources(case, need)
+    _check_inlet_ratios(case)
+    _check_recovery_and_economics(case, need)
+    _check_options(case)
+
+
+def _component_check(case: Case) -> _Need:
+    """A function that refuses a name that is not a declared component, with a hint."""
+    known = sorted(case.components)
 
     def need_component(path: str, name: str) -> None:
-        if name not in comps:
+        if name not in case.components:
             hint = difflib.get_close_matches(name, known, n=1)
             fix = f"; did you mean '{hint[0]}'?" if hint else f"; declared components: {known}"
-            raise _Located(path, f"unknown component {name!r}{fix}")
+            raise CaseError(path, f"unknown component {name!r}{fix}")
+    return need_component
 
+
+def _check_reactions(case: Case, need: _Need) -> None:
     for i, r in enumerate(case.reactions):
-        base = f"reactions[{i}]"
-        for c, nu in r.stoichiometry.items():
-            need_component(f"{base}.stoichiometry.{_key(c)}", c)
-            if nu == 0:
-                raise _Located(f"{base}.stoichiometry.{_key(c)}", "coefficient 0: leave it out")
-        need_component(f"{base}.key_reactant", r.key_reactant)
-        if r.stoichiometry.get(r.key_reactant, 0) >= 0:
-            raise _Located(f"{base}.key_reactant",
-                           f"'{r.key_reactant}' must be consumed (negative coefficient)")
-        needs = {"fixed": "per_pass_conversion", "equilibrium": "approach_to_equilibrium",
-                 "sized": "sizing"}[r.per_pass]
-        if getattr(r, needs) is None:
-            raise _Located(f"{base}.{needs}", f"required when per_pass = '{r.per_pass}'")
-        if r.per_pass == "equilibrium" and r.equilibrium is None:
-            raise _Located(f"{base}.equilibrium", "required when per_pass = 'equilibrium'")
-        if r.sizing is not None:
-            s = r.sizing
-            if not s.reference_conversion < s.equilibrium_conversion:
-                raise _Located(f"{base}.sizing.reference_conversion",
-                               f"{s.reference_conversion} must be below equilibrium_conversion "
-                               f"{s.equilibrium_conversion}")
-            if not s.conversion_min < s.conversion_max < s.equilibrium_conversion:
-                raise _Located(f"{base}.sizing.conversion_max",
-                               "need conversion_min < conversion_max < equilibrium_conversion")
+        _check_reaction(f"reactions[{i}]", r, need)
     if sum(r.per_pass == "sized" for r in case.reactions) > 1:
-        raise _Located("reactions", "at most one reaction may have per_pass = 'sized'")
+        raise CaseError("reactions", "at most one reaction may have per_pass = 'sized'")
 
+
+def _check_reaction(base: str, r: ReactionSpec, need: _Need) -> None:
+    for c, nu in r.stoichiometry.items():
+        need(f"{base}.stoichiometry.{_key(c)}", c)
+        if nu == 0:
+            raise CaseError(f"{base}.stoichiometry.{_key(c)}", "coefficient 0: leave it out")
+    need(f"{base}.key_reactant", r.key_reactant)
+    if r.stoichiometry.get(r.key_reactant, 0) >= 0:
+        raise CaseError(f"{base}.key_reactant",
+                        f"'{r.key_reactant}' must be consumed (negative coefficient)")
+    needs = {"fixed": "per_pass_conversion", "equilibrium": "approach_to_equilibrium",
+             "sized": "sizing"}[r.per_pass]
+    if getattr(r, needs) is None:
+        raise CaseError(f"{base}.{needs}", f"required when per_pass = '{r.per_pass}'")
+    if r.per_pass == "equilibrium" and r.equilibrium is None:
+        raise CaseError(f"{base}.equilibrium", "required when per_pass = 'equilibrium'")
+    if r.sizing is not None:
+        _check_sizing(f"{base}.sizing", r.sizing)
+
+
+def _check_sizing(base: str, s: SizingSpec) -> None:
+    if not s.reference_conversion < s.equilibrium_conversion:
+        raise CaseError(f"{base}.reference_conversion",
+                        f"{s.reference_conversion} must be below equilibrium_conversion "
+                        f"{s.equilibrium_conversion}")
+    if not s.conversion_min < s.conversion_max < s.equilibrium_conversion:
+        raise CaseError(f"{base}.conversion_max",
+                        "need conversion_min < conversion_max < equilibrium_conversion")
+
+
+def _check_loop(case: Case, need: _Need) -> None:
     loop = case.loop
-    need_component("loop.product", loop.product)
+    need("loop.product", loop.product)
     if not any(r.stoichiometry.get(loop.product, 0) > 0 for r in case.reactions):
-        raise _Located("loop.product", f"'{loop.product}' is not produced by any reaction")
+        raise CaseError("loop.product", f"'{loop.product}' is not produced by any reaction")
     if loop.basis == "production" and loop.production_t_d is None:
-        raise _Located("loop.production_t_d", "required when basis = 'production'")
+        raise CaseError("loop.production_t_d", "required when basis = 'production'")
     if loop.basis == "makeup" and loop.makeup_kmol_h is None:
-        raise _Located("loop.makeup_kmol_h", "required when basis = 'makeup'")
+        raise CaseError("loop.makeup_kmol_h", "required when basis = 'makeup'")
     if not loop.purge_fraction_min < loop.purge_fraction_max:
-        raise _Located("loop.purge_fraction_max",
-                       f"{loop.purge_fraction_max} must exceed purge_fraction_min "
-                       f"{loop.purge_fraction_min}")
+        raise CaseError("loop.purge_fraction_max",
+                        f"{loop.purge_fraction_max} must exceed purge_fraction_min "
+                        f"{loop.purge_fraction_min}")
     if loop.pressure_drop_bar >= loop.pressure_bar:
-        raise _Located("loop.pressure_drop_bar",
-                       f"{loop.pressure_drop_bar} must be below pressure_bar {loop.pressure_bar}")
+        raise CaseError("loop.pressure_drop_bar",
+                        f"{loop.pressure_drop_bar} must be below pressure_bar {loop.pressure_bar}")
     for i, ratio in enumerate(loop.inlet_ratios):
-        need_component(f"loop.inlet_ratios[{i}].numerator", ratio.numerator)
-        need_component(f"loop.inlet_ratios[{i}].denominator", ratio.denominator)
+        need(f"loop.inlet_ratios[{i}].numerator", ratio.numerator)
+        need(f"loop.inlet_ratios[{i}].denominator", ratio.denominator)
 
-    condensing = [c for c, v in case.separator.liquid_fraction.items() if v == "condensation"]
-    for c in case.separator.liquid_fraction:
-        need_component(f"separator.liquid_fraction.{_key(c)}", c)
+
+def _check_separator(case: Case, need: _Need) -> None:
+    split = case.separator.liquid_fraction
+    condensing = [c for c, v in split.items() if v == "condensation"]
+    for c in split:
+        need(f"separator.liquid_fraction.{_key(c)}", c)
     if len(condensing) > 1:
-        raise _Located("separator.liquid_fraction",
-                       f"only one component may condense, found {condensing}")
-    product_split = case.separator.liquid_fraction.get(loop.product, 0.0)
-    if product_split == 0.0:
-        raise _Located(f"separator.liquid_fraction.{_key(loop.product)}",
-                       "the product must leave with the liquid: give a fraction above 0 "
-                       "or 'condensation'")
+        raise CaseError("separator.liquid_fraction",
+                        f"only one component may condense, found {condensing}")
+    product = case.loop.product
+    if split.get(product, 0.0) == 0.0:
+        raise CaseError(f"separator.liquid_fraction.{_key(product)}",
+                        "the product must leave with the liquid: give a fraction above 0 "
+                        "or 'condensation'")
 
+
+def _check_sources(case: Case, need: _Need) -> None:
     for name, src in case.sources.items():
-        base = f"sources.{_key(name)}"
-        for c in src.composition:
-            need_component(f"{base}.composition.{_key(c)}", c)
-        total = sum(src.composition.values())
-        if abs(total - 1.0) > 1e-6:
-            raise _Located(f"{base}.composition",
-                           f"mole fractions sum to {total:.9g}; they must sum to 1 within 1e-6")
-        if src.enters == "makeup" and src.supply_pressure_bar > loop.pressure_bar:
-            raise _Located(f"{base}.supply_pressure_bar",
-                           f"{src.supply_pressure_bar} is above the loop pressure "
-                           f"{loop.pressure_bar}")
+        _check_source(f"sources.{_key(name)}", src, case.loop.pressure_bar, need)
     for i, name in enumerate(case.makeup_sources or []):
         if name not in case.sources:
             hint = difflib.get_close_matches(name, sorted(case.sources), n=1)
             fix = f"; did you mean '{hint[0]}'?" if hint else ""
-            raise _Located(f"makeup_sources[{i}]", f"unknown source '{name}'{fix}")
+            raise CaseError(f"makeup_sources[{i}]", f"unknown source '{name}'{fix}")
     active = case.active_sources
     if not active:
-        raise _Located("makeup_sources", "at least one source is needed")
+        raise CaseError("makeup_sources", "at least one source is needed")
     if not any(case.sources[s].enters == "makeup" for s in active):
-        raise _Located("makeup_sources", "at least one source must enter as make-up gas")
+        raise CaseError("makeup_sources", "at least one source must enter as make-up gas")
 
+
+def _check_source(base: str, src: SourceSpec, loop_pressure_bar: float, need: _Need) -> None:
+    for c in src.composition:
+        need(f"{base}.composition.{_key(c)}", c)
+    total = sum(src.composition.values())
+    if abs(total - 1.0) > 1e-6:
+        raise CaseError(f"{base}.composition",
+                        f"mole fractions sum to {total:.9g}; they must sum to 1 within 1e-6")
+    if src.enters == "makeup" and src.supply_pressure_bar > loop_pressure_bar:
+        raise CaseError(f"{base}.supply_pressure_bar",
+                        f"{src.supply_pressure_bar} is above the loop pressure "
+                        f"{loop_pressure_bar}")
+
+
+def _check_inlet_ratios(case: Case) -> None:
+    """One reactor-inlet ratio fixes the rate of the direct feeds; without them, none.
+
+    The direct feeds (active sources with enters = "reactor_feed") are one
+    group whose total rate is an unknown of the loop; the basis fixes the
+    make-up, so the loop equations are square only with exactly one ratio
+    when there are direct feeds and none otherwise.
+    """
+    direct = [s for s in case.active_sources if case.sources[s].enters == "reactor_feed"]
+    ratios = case.loop.inlet_ratios
+    found = {0: "none", 1: "1 entry"}.get(len(ratios), f"{len(ratios)} entries")
+    if direct and len(ratios) != 1:
+        names = ", ".join(repr(s) for s in direct)
+        who = (f"the direct feed {names} needs" if len(direct) == 1 else
+               f"the direct feeds {names} enter the reactor as one group and need")
+        its = "its rate" if len(direct) == 1 else "their total rate"
+        raise CaseError("loop.inlet_ratios",
+                        f"{who} one loop.inlet_ratios entry (numerator, denominator, value) "
+                        f"that fixes {its}; found {found}")
+    if not direct and ratios:
+        raise CaseError("loop.inlet_ratios",
+                        "no active source enters the reactor directly (enters = "
+                        "'reactor_feed'), so there is no feed rate for a ratio to fix and the "
+                        f"basis already fixes the make-up: leave loop.inlet_ratios out; "
+                        f"found {found}")
+    carried = {c for s in case.active_sources for c, y in case.sources[s].composition.items()
+               if y > 0.0}
+    made = {c for r in case.reactions for c, nu in r.stoichiometry.items() if nu > 0}
+    for i, ratio in enumerate(ratios):
+        base = f"loop.inlet_ratios[{i}]"
+        if ratio.numerator == ratio.denominator:
+            raise CaseError(f"{base}.denominator",
+                            f"{ratio.denominator!r} is also the numerator: a ratio needs two "
+                            "different components")
+        for end in ("numerator", "denominator"):
+            c = getattr(ratio, end)
+            if c not in carried | made:
+                raise CaseError(f"{base}.{end}",
+                                f"{c!r} never reaches the reactor inlet: no active source "
+                                "carries it and no reaction makes it; name a component that "
+                                "is in the loop")
+
+
+def _check_recovery_and_economics(case: Case, need: _Need) -> None:
     rate = case.economics.discount_rate
     if 0.0 < rate < 1e-6:
-        raise _Located("economics.discount_rate",
-                       f"{rate!r} is neither 0 nor a rate of at least 1e-6 per year")
+        raise CaseError("economics.discount_rate",
+                        f"{rate!r} is neither 0 nor a rate of at least 1e-6 per year")
     rec = case.purge.recovery
     if rec != "none" and rec not in case.recovery_units:
-        raise _Located("purge.recovery",
-                       f"unknown recovery unit '{rec}'; declared: {sorted(case.recovery_units)} "
-                       "or 'none'")
+        raise CaseError("purge.recovery",
+                        f"unknown recovery unit '{rec}'; declared: {sorted(case.recovery_units)} "
+                        "or 'none'")
     for name, unit in case.recovery_units.items():
         for c in unit.return_fraction:
-            need_component(f"recovery_units.{_key(name)}.return_fraction.{_key(c)}", c)
+            need(f"recovery_units.{_key(name)}.return_fraction.{_key(c)}", c)
 
+
+def _check_options(case: Case) -> None:
     for opt, choices in case.options.items():
         if not choices:
-            raise _Located(f"options.{_key(opt)}", "an option needs at least one choice")
+            raise CaseError(f"options.{_key(opt)}", "an option needs at least one choice")
     for i, alt in enumerate(case.alternatives):
         for opt, choice in alt.choices.items():
             if opt not in case.options:
-                raise _Located(f"alternatives[{i}].choices.{_key(opt)}", f"unknown option '{opt}'")
+                raise CaseError(f"alternatives[{i}].choices.{_key(opt)}",
+                                f"unknown option '{opt}'")
             if choice not in case.options[opt]:
-                raise _Located(f"alternatives[{i}].choices.{_key(opt)}",
-                               f"unknown choice '{choice}'; options: {sorted(case.options[opt])}")
+                raise CaseError(f"alternatives[{i}].choices.{_key(opt)}",
+                                f"unknown choice '{choice}'; options: {sorted(case.options[opt])}")
     for i, ex in enumerate(case.exclude):
         for opt, choice in ex.items():
             if opt not in case.options or choice not in case.options[opt]:
-                raise _Located(f"exclude[{i}].{_key(opt)}",
-                               f"no such option choice {opt!r} = {choice!r}")
+                raise CaseError(f"exclude[{i}].{_key(opt)}",
+                                f"no such option choice {opt!r} = {choice!r}")
     names = [a.name for a in case.alternatives]
     if len(set(names)) != len(names):
-        raise _Located("alternatives", "alternative names must be unique")
+        raise CaseError("alternatives", "alternative names must be unique")
 
 
 # ---------------------------------------------------------------------------
@@ -390,14 +477,6 @@ def _strip_optional(annotation: Any) -> Any:
     return annotation
 
 
-def _key(part: Any) -> str:
-    """One key of a path, quoted when it is not a plain name (so messages stay one line)."""
-    text = str(part)
-    if text and all(ch.isalnum() or ch in "_-:" for ch in text):
-        return text
-    return json.dumps(text, ensure_ascii=True)
-
-
 def _path(loc: tuple) -> str:
     out = ""
     for part in loc:
@@ -433,9 +512,9 @@ def _case_error(exc: ValidationError, prefix: str = "") -> CaseError:
     if kind == "missing":
         return CaseError(path, "missing key: this value is required")
     ctx = err.get("ctx", {})
-    if kind == "value_error" and isinstance(ctx.get("error"), _Located):
-        located = ctx["error"]
-        return CaseError(prefix + located.path, str(located))
+    if kind == "value_error" and isinstance(ctx.get("error"), CaseError):
+        found = ctx["error"]
+        return CaseError(prefix + found.path, found.message)
     bounds = {"greater_than": ("greater than", "gt"), "greater_than_equal": ("at least", "ge"),
               "less_than": ("less than", "lt"), "less_than_equal": ("at most", "le")}
     if kind in bounds:

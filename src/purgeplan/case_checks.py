@@ -1,0 +1,214 @@
+"""Checks of a case that need property data, and the values they establish.
+
+Run by the validator of :class:`purgeplan.case.Case` after the checks of the
+case's own structure, so every validated case (each design alternative
+included) has component data for every component, reactions that balance
+their elements, the data its equilibrium constants need, usable fugacity
+coefficients, heat capacities that give a heat-capacity ratio, and a
+condensing product that condenses.  The loop builder (:mod:`purgeplan.build`)
+takes its values from the same functions, so a validated case always builds.
+
+Every failure is a one-line :class:`CaseError` naming the key path and the fix.
+"""
+
+from __future__ import annotations
+
+import json
+import math
+from collections.abc import Mapping
+from typing import TYPE_CHECKING, Any
+
+from .errors import CaseError
+from .physics import equilibrium, separation, thermo
+from .properties import ComponentData, lookup
+
+if TYPE_CHECKING:
+    from .case import Case, ComponentSpec, ReactionSpec
+
+#: Zero of the Celsius scale [K] (the value of :data:`purgeplan.loop.KELVIN`).
+KELVIN = 273.15
+
+
+def key_part(part: Any) -> str:
+    """One key of a path, quoted when it is not a plain name (so messages stay one line)."""
+    text = str(part)
+    if text and all(ch.isalnum() or ch in "_-:" for ch in text):
+        return text
+    return json.dumps(text, ensure_ascii=True)
+
+
+def check_property_data(case: Case) -> None:
+    """Every check that needs property data, in the order the loop is built."""
+    data = component_data(case)
+    _check_heat_capacities(case, data)
+    t_reactor = case.reactor.temperature_c + KELVIN
+    for i, spec in enumerate(case.reactions):
+        path = f"reactions[{i}]"
+        _check_element_balance(f"{path}.stoichiometry", spec.stoichiometry, data)
+        formation_terms(spec, data)
+        _check_gillespie_beattie(path, spec)
+        _check_fugacity(path, spec, t_reactor, case.loop.pressure_bar)
+    condensate_vapour_ratio(case, data)
+
+
+# ---------------------------------------------------------------------------
+# components
+
+
+def component_data(case: Case) -> dict[str, ComponentData]:
+    """Property data of every declared component, case overrides first."""
+    return {name: _one_component(name, spec) for name, spec in case.components.items()}
+
+
+def _override(value: float | None, default: float | None) -> float | None:
+    return value if value is not None else default
+
+
+def _one_component(name: str, spec: ComponentSpec) -> ComponentData:
+    ident = spec.identifier or name
+    try:
+        cas, formula, atoms, mw, lhv, hf, s0, cp, psat = lookup(ident)
+    except LookupError:
+        if spec.molar_mass_kg_kmol is None or spec.heat_capacity_j_mol_k is None:
+            raise CaseError(f"components.{key_part(name)}",
+                            f"unknown component {ident!r}: give identifier = a name, formula "
+                            "or CAS number the property library knows, or give "
+                            "molar_mass_kg_kmol and heat_capacity_j_mol_k") from None
+        cas, formula, atoms, mw, lhv, hf, s0, cp, psat = ("", "", (), 0.0, 0.0, None, None,
+                                                         None, None)
+    if spec.heat_capacity_j_mol_k is not None:
+        cp = (spec.heat_capacity_j_mol_k / thermo.R_J_MOL_K,)
+    if cp is None:
+        raise CaseError(f"components.{key_part(name)}.heat_capacity_j_mol_k",
+                        "no ideal-gas heat capacity data for this component; give one")
+    return ComponentData(
+        name=name, cas=cas, formula=formula, atoms=atoms,
+        molar_mass_kg_kmol=_override(spec.molar_mass_kg_kmol, mw),
+        lhv_kj_mol=_override(spec.lower_heating_value_kj_mol, lhv),
+        formation_enthalpy_kj_mol=_override(spec.formation_enthalpy_kj_mol, hf),
+        standard_entropy_j_mol_k=_override(spec.standard_entropy_j_mol_k, s0),
+        cp_coefficients=tuple(cp), vapour_pressure_coefficients=psat)
+
+
+def _check_heat_capacities(case: Case, data: Mapping[str, ComponentData]) -> None:
+    """Cp above R wherever a gas is compressed, so its heat-capacity ratio exists.
+
+    Every component can be in the recycle gas; a make-up source's components
+    are compressed at that source's temperature.  A mixture's Cp is a
+    mole-fraction average, so it is above R when each component's is.
+    """
+    at = [(c, case.compression.recycle_inlet_temperature_c) for c in data]
+    for name in case.active_sources:
+        src = case.sources[name]
+        if src.enters == "makeup":
+            at += [(c, src.temperature_c) for c, y in src.composition.items() if y > 0.0]
+    r = thermo.R_J_MOL_K
+    for c, t_c in at:
+        cp = thermo.cp_ideal_gas_j_mol_k(data[c].cp_coefficients, t_c + KELVIN)
+        if not cp > r:
+            raise CaseError(f"components.{key_part(c)}.heat_capacity_j_mol_k",
+                            f"ideal-gas heat capacity {cp:.6g} J/(mol K) at {t_c:g} degC is "
+                            f"not above the gas constant {r:.6g} J/(mol K), so the gas has no "
+                            "heat-capacity ratio; give heat_capacity_j_mol_k above it")
+
+
+# ---------------------------------------------------------------------------
+# reactions
+
+
+def _check_element_balance(path: str, nu: Mapping[str, float],
+                           data: Mapping[str, ComponentData]) -> None:
+    if any(not data[c].atoms for c in nu):
+        return  # a component defined only by overrides has no formula to check
+    totals: dict[str, float] = {}
+    for c, coeff in nu.items():
+        for element, count in data[c].atoms:
+            totals[element] = totals.get(element, 0.0) + coeff * count
+    bad = {e: round(v, 9) for e, v in totals.items() if abs(v) > 1e-9}
+    if bad:
+        raise CaseError(path, f"reaction does not balance its elements: net {bad}")
+
+
+def formation_terms(spec: ReactionSpec, data: Mapping[str, ComponentData]
+                    ) -> tuple[float | None, float | None, tuple | None]:
+    """Reaction enthalpy [J/mol] and entropy [J/(mol K)] at 298.15 K and the Cp/R polynomial
+    of the reaction, from formation data; all None unless K comes from formation data."""
+    eq = spec.equilibrium
+    if eq is None or eq.constant != "formation_data":
+        return None, None, None
+    nu = spec.stoichiometry
+    missing = [c for c in nu if data[c].formation_enthalpy_kj_mol is None
+               or data[c].standard_entropy_j_mol_k is None]
+    if missing:
+        raise CaseError(f"components.{key_part(missing[0])}",
+                        "formation data missing: give formation_enthalpy_kj_mol and "
+                        "standard_entropy_j_mol_k")
+    dh = 1000.0 * sum(v * data[c].formation_enthalpy_kj_mol for c, v in nu.items())
+    ds = sum(v * data[c].standard_entropy_j_mol_k for c, v in nu.items())
+    width = max(len(data[c].cp_coefficients) for c in nu)
+    dcp = tuple(sum(v * (data[c].cp_coefficients + (0.0,) * width)[k] for c, v in nu.items())
+                for k in range(width))
+    return dh, ds, dcp
+
+
+def _check_gillespie_beattie(path: str, spec: ReactionSpec) -> None:
+    if spec.equilibrium is None or spec.equilibrium.constant != "ammonia_gillespie_beattie":
+        return
+    nu = spec.stoichiometry
+    ratio = nu.get("NH3", 0.0)
+    expected = {"N2": -0.5 * ratio, "H2": -1.5 * ratio, "NH3": ratio}
+    if ratio <= 0 or set(nu) != set(expected) or any(
+            abs(nu[c] - expected[c]) > 1e-12 for c in nu):
+        raise CaseError(f"{path}.equilibrium.constant",
+                        "ammonia_gillespie_beattie needs the reaction N2 + 3 H2 = 2 NH3 "
+                        "(any multiple), with components named N2, H2 and NH3")
+
+
+def _check_fugacity(path: str, spec: ReactionSpec, temperature_k: float,
+                    pressure_bar: float) -> None:
+    """The Dyson-Simon coefficients must be positive numbers at reactor conditions."""
+    if spec.equilibrium is None or spec.equilibrium.fugacity != "dyson_simon":
+        return
+    try:
+        phi = equilibrium.dyson_simon_fugacity_coefficients(
+            temperature_k, pressure_bar / equilibrium.ATM_BAR)
+    except OverflowError:
+        phi = dict.fromkeys(("H2", "N2", "NH3"), math.inf)
+    bad = [c for c in spec.stoichiometry if c in phi and not 0.0 < phi[c] < math.inf]
+    if bad:
+        raise CaseError(f"{path}.equilibrium.fugacity",
+                        f"the Dyson-Simon correlation gives no usable fugacity coefficient "
+                        f"for {', '.join(bad)} at {temperature_k - KELVIN:g} degC and "
+                        f"{pressure_bar:g} bar; use fugacity = 'ideal'")
+
+
+# ---------------------------------------------------------------------------
+# separator
+
+
+def condensate_vapour_ratio(case: Case, data: Mapping[str, ComponentData]
+                            ) -> tuple[str | None, float]:
+    """The condensing component (or None) and its moles per mole of other separator vapour."""
+    split = case.separator.liquid_fraction
+    condensing = next((c for c, v in split.items() if v == "condensation"), None)
+    if condensing is None:
+        return None, 0.0
+    coefficients = data[condensing].vapour_pressure_coefficients
+    if coefficients is None:
+        raise CaseError(f"separator.liquid_fraction.{key_part(condensing)}",
+                        f"no vapour pressure data for {condensing!r}, so it cannot condense: "
+                        "give a split fraction, or an identifier the property library knows")
+    t_sep_c = case.separator.temperature_c
+    t_critical_c = coefficients[1] - KELVIN
+    if t_sep_c >= t_critical_c:
+        raise CaseError("separator.temperature_c",
+                        f"{t_sep_c:g} degC is not below the critical temperature of "
+                        f"{condensing!r} ({t_critical_c:.6g} degC): nothing condenses")
+    loop = case.loop
+    try:
+        psat = data[condensing].vapour_pressure_bar(t_sep_c + KELVIN)
+        ratio = separation.condensate_vapour_ratio(psat, loop.pressure_bar
+                                                   - loop.pressure_drop_bar)
+    except (ArithmeticError, ValueError) as exc:
+        raise CaseError("separator.temperature_c", str(exc)) from None
+    return condensing, ratio
