@@ -26,6 +26,7 @@ from pathlib import Path
 import pytest
 
 import purgeplan
+from purgeplan.cautions import CAUTION
 from purgeplan.cli import main
 
 ROOT = Path(__file__).resolve().parents[1]
@@ -299,6 +300,34 @@ def test_check_accepts_the_demo_cases(seed):
     assert digest[:12] in proc.stdout
 
 
+def test_check_reports_each_state_limit_against_the_steady_state(tmp_path, capsys):
+    """The ammonia demo's inert limit 0.25, then 0.005: met at the case purge, then not.
+
+    The value beside each limit is the inert mole fraction at the reactor inlet
+    that the same alternative's line gives in per cent.
+    """
+    for bound, verdict in (("0.25", "met"), ("0.005", "not met")):
+        case = tmp_path / f"limit-{bound}.toml"
+        case.write_text(edited("ammonia", ("max_inert_fraction_reactor_inlet = 0.25",
+                                           f"max_inert_fraction_reactor_inlet = {bound}")))
+        assert main(["check", str(case)]) == 0
+        lines = capsys.readouterr().out.splitlines()
+        states = [i for i, line in enumerate(lines) if ", inert at inlet " in line]
+        assert len(states) == 8
+        for i in states:
+            inert = float(lines[i].split(", inert at inlet ")[1].split(" %")[0]) / 100
+            head = f"    {verdict}: the inert limit at the reactor inlet ({bound}) against "
+            assert lines[i + 1].startswith(head), lines[i + 1]
+            assert float(lines[i + 1][len(head):]) == pytest.approx(inert, abs=6e-5)
+        assert "above the inert limit" not in "\n".join(lines)
+
+
+def test_check_says_when_no_state_limit_is_set(capsys):
+    assert main(["check", str(CASES["hydrogenation"])]) == 0
+    out = capsys.readouterr().out
+    assert out.count("    no state limits set") == out.count(", inert at inlet ") == 4
+
+
 def test_new_writes_a_template_that_check_accepts(tmp_path):
     target = tmp_path / "my_case.toml"
     proc = run_cli("new", target)
@@ -332,6 +361,7 @@ def test_help_states_the_cautions():
         assert word in text, word
     for command in ("check", "new", "evaluate", "optimize", "study"):
         assert command in text
+    assert " ".join(CAUTION.split()).lower() in text
 
 
 # ---------------------------------------------------------------------------
@@ -453,3 +483,30 @@ def test_infeasible_alternative_gives_exit_3_and_the_reason(tmp_path):
     assert "inert" in standard["message"] and standard["purge_fraction"] is None
     assert_feasible_record(by_name["purified grade"])
     assert by_name["purified grade"]["inert_fraction_reactor_inlet"] <= 0.005 * (1 + 1e-6)
+
+
+def test_study_ends_with_the_caution_and_writes_the_records(tmp_path, capsys):
+    """Two alternatives of the ammonia demo: workbook, JSON and the caution on stderr."""
+    case = tmp_path / "case.toml"
+    case.write_text(TEXT["ammonia"] + """
+[[alternatives]]
+name = "standard grade"
+choices = { makeup_grade = "standard" }
+
+[[alternatives]]
+name = "purified grade"
+choices = { makeup_grade = "purified" }
+""")
+    out, target = tmp_path / "study.xlsx", tmp_path / "study.json"
+    assert main(["study", str(case), "-o", str(out), "--json", str(target), "--quiet"]) == 0
+    captured = capsys.readouterr()
+    assert captured.err.rstrip("\n").split("\n")[-1] == CAUTION
+    doc = json.loads(target.read_text())
+    assert_document(doc, case, 2)
+    assert doc["ranking"] == [r["name"] for r in sorted(
+        doc["alternatives"], key=lambda r: r["tac_per_year"])]
+    (be,) = doc["break_even"]
+    assert (be["grade"], be["base_grade"]) == ("purified", "standard")
+    assert ("break-even: purified ties with standard at a premium of "
+            f"{be['premium_per_kmol']:.4f}") in captured.out
+    assert out.exists()

@@ -9,8 +9,9 @@ from pathlib import Path
 import pytest
 
 from purgeplan.case import validate_case_dict
+from purgeplan.output.json_out import study_document
 from purgeplan.solve import optimise
-from purgeplan.study import run_study, study_document, with_source_prices
+from purgeplan.study import run_study, with_source_prices
 
 CASE = Path(__file__).resolve().parents[1] / "cases" / "ammonia_demo.toml"
 
@@ -52,26 +53,26 @@ def test_break_even_premium_ties_the_two_alternatives(study):
     """At the reported premium the purer grade's best alternative costs what the base's does."""
     assert study.break_even, "the demo has two make-up grades"
     for be in study.break_even:
-        alt = next(a for a in study.alternatives if a.name == be["alternative"])
-        base = next(a for a in study.alternatives if a.name == be["base_alternative"])
-        tie = optimise(with_source_prices(alt.loop, {be["grade"]: be["tie_price_per_kmol"]}))
+        alt = next(a for a in study.alternatives if a.name == be.alternative)
+        base = next(a for a in study.alternatives if a.name == be.base_alternative)
+        tie = optimise(with_source_prices(alt.loop, {be.grade: be.tie_price_per_kmol}))
         target = base.optimum.state.tac_per_year
         assert abs(tie.state.tac_per_year - target) <= 1e-6 * target
-        assert be["premium_per_kmol"] == pytest.approx(
-            be["tie_price_per_kmol"] - be["base_price_per_kmol"], rel=1e-12)
-        assert be["premium_percent"] == pytest.approx(
-            100 * be["premium_per_kmol"] / be["base_price_per_kmol"], rel=1e-12)
+        assert be.premium_per_kmol == pytest.approx(
+            be.tie_price_per_kmol - be.base_price_per_kmol, rel=1e-12)
+        assert be.premium_percent == pytest.approx(
+            100 * be.premium_per_kmol / be.base_price_per_kmol, rel=1e-12)
 
 
 def test_sensitivity_swings_have_the_expected_signs(study):
     """Dearer inputs cost more; a larger fuel credit costs less (signs of the cost model)."""
     best = study.best.name
-    rows = {r["lever"]: r["tac"][best] for r in study.sensitivity}
+    rows = {r.lever: r.tac[best] for r in study.sensitivity}
     for lever in ("makeup_gas_price", "power_price", "catalyst_price", "capital_cost",
                   "discount_rate"):
-        assert rows[lever]["low"] < rows[lever]["base"] < rows[lever]["high"], lever
-    assert rows["fuel_price"]["low"] > rows["fuel_price"]["base"] > rows["fuel_price"]["high"]
-    assert rows["compressor_efficiency"]["low"] > rows["compressor_efficiency"]["high"]
+        assert rows[lever].low < rows[lever].base < rows[lever].high, lever
+    assert rows["fuel_price"].low > rows["fuel_price"].base > rows["fuel_price"].high
+    assert rows["compressor_efficiency"].low > rows["compressor_efficiency"].high
 
 
 def test_off_optimum_band_contains_the_optimum(study):

@@ -28,6 +28,7 @@ import pytest
 
 from purgeplan import costs
 from purgeplan.case import parse_case_text
+from purgeplan.cautions import CAUTIONS
 from purgeplan.output import workbook
 from purgeplan.output.workbook import build_workbook, write_workbook
 from purgeplan.study import run_study
@@ -168,7 +169,7 @@ def test_cautions_method_and_provenance(study):
         return {c.value for row in ws.iter_rows() for c in row if isinstance(c.value, str)}
 
     for sheet in (workbook.SUMMARY, workbook.NOTES):
-        assert set(workbook.CAUTIONS) <= texts(wb[sheet])
+        assert set(CAUTIONS) <= texts(wb[sheet])
     notes = texts(wb[workbook.NOTES])
     assert study.case_sha256 in notes and study.created in notes
     assert f"purgeplan {study.tool_version}" in notes
@@ -179,6 +180,67 @@ def test_cautions_method_and_provenance(study):
                                                                      values_only=True)}
     tight = ranking[NAMES["tight"]]
     assert tight[0] == "-" and tight[10] == "no" and "inert limit" in tight[12]
+
+
+def _shown(value):
+    """A record value as the workbook shows it: numbers as numbers, None as ``n/a``."""
+    return "n/a" if value is None else value
+
+
+def _table(ws, header_row: int, first: int, last: int | None = None) -> list[dict]:
+    """Rows of a sheet table as dicts keyed by the header texts."""
+    header = [c.value for c in ws[header_row]]
+    return [dict(zip(header, row, strict=False)) for row in ws.iter_rows(
+        min_row=first, max_row=last, values_only=True)]
+
+
+def test_sensitivity_sheet_writes_every_record_field(study):
+    """Each cell of the lever table is its record's value; capped moves show the factor applied.
+
+    Hours on stream: the demo's 8200 h/year x 1.2 = 9840 h/year is more than a
+    year has, so the lever applies 8784 / 8200 (366 days x 24 h).
+    """
+    ws = build_workbook(study)[workbook.SENSITIVITY]
+    rows = _table(ws, 3, 4, 3 + len(study.sensitivity))
+    assert [r["Lever"] for r in rows] == [r.lever for r in study.sensitivity]
+    for cells, rec in zip(rows, study.sensitivity, strict=True):
+        assert cells["Description"] == rec.label
+        assert cells["Low factor [-]"] == rec.low_factor
+        assert cells["High factor [-]"] == rec.high_factor
+        assert cells["Low factor applied [-]"] == rec.low_factor_applied
+        assert cells["High factor applied [-]"] == rec.high_factor_applied
+        for name, swing in rec.tac.items():
+            i = next(k for k, a in numbered(study) if a.name == name)
+            for side in ("low", "base", "high"):
+                assert cells[f"Alt. {i} TAC at {side} [EUR/year]"] == _shown(getattr(swing,
+                                                                                     side))
+        assert cells["Best at low"] == _shown(rec.best_at_low)
+        assert cells["Best at high"] == _shown(rec.best_at_high)
+        assert cells["Best changes"] == ("yes" if rec.best_changes else "no")
+        assert cells["Note"] == (rec.note or "")
+    hours = next(r for r in rows if r["Lever"] == "hours_per_year")
+    assert {a.loop.prices.hours_per_year for a in study.alternatives} == {8200.0}
+    assert hours["High factor applied [-]"] == pytest.approx(8784 / 8200, rel=1e-12)
+    assert "8784" in hours["Note"]
+
+
+def test_break_even_table_writes_every_record_field(study):
+    ws = build_workbook(study)[workbook.SUMMARY]
+    head = next(c.row for c in ws["A"] if c.value == "Purer grade")
+    rows = _table(ws, head, head + 1, head + len(study.break_even))
+    assert study.break_even, "the reduced demo has two make-up grades"
+    for cells, rec in zip(rows, study.break_even, strict=True):
+        assert cells["Purer grade"] == rec.grade
+        assert cells["Base grade"] == rec.base_grade
+        assert cells["Alternative (purer grade)"] == rec.alternative
+        assert cells["Base alternative"] == rec.base_alternative
+        assert cells["Base price [EUR/kmol]"] == rec.base_price_per_kmol
+        assert cells["Grade price [EUR/kmol]"] == rec.grade_price_per_kmol
+        assert cells["Tie price [EUR/kmol]"] == _shown(rec.tie_price_per_kmol)
+        assert cells["Premium [EUR/kmol]"] == _shown(rec.premium_per_kmol)
+        assert cells["Premium [%]"] == _shown(rec.premium_percent)
+        assert cells["TAC at tie [EUR/year]"] == _shown(rec.tac_at_tie_per_year)
+        assert cells["Note"] == (rec.note or "")
 
 
 def test_defined_names_are_valid_and_unique():

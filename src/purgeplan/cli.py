@@ -13,12 +13,7 @@ import sys
 from pathlib import Path
 
 from . import __version__
-
-CAUTION = (
-    "CAUTION: purge gas is flammable and often toxic (hydrogen, ammonia, carbon monoxide) and "
-    "synthesis loops run at high pressure. purgeplan gives feasibility-grade estimates, not a "
-    "design basis: equipment design, relief and flare systems follow local codes and licensed "
-    "engineering practice.")
+from .cautions import CAUTION
 
 EXIT_OK, EXIT_BAD_INPUT, EXIT_INFEASIBLE, EXIT_FAILED, EXIT_INTERNAL = 0, 2, 3, 4, 1
 
@@ -131,6 +126,23 @@ def _print_table(rows, currency: str) -> None:
               f"{', '.join(opt.binding_constraints) or '-'}")
 
 
+def _limit_lines(loop, state) -> list[str]:
+    """Each state limit of the loop against its value in ``state``, with the verdict."""
+    from . import limits
+
+    lines = []
+    for limit in limits.state_limits(loop):
+        q = state.quantities
+        if limits.violated([limit], q):
+            verdict = "not met"
+        elif limits.binding([limit], q):
+            verdict = "at its bound"
+        else:
+            verdict = "met"
+        lines.append(f"    {verdict}: {limits.describe(limit, q)}")
+    return lines or ["    no state limits set"]
+
+
 def cmd_check(args) -> int:
     from .build import build_loop
     from .case import expand_alternatives
@@ -156,17 +168,17 @@ def cmd_check(args) -> int:
     for name, lp_ in loops:
         try:
             s = steady_state(lp_)
-            limit = lp_.max_inert_fraction_reactor_inlet
-            over = (f" (above the inert limit {100 * limit:g} %)"
-                    if limit is not None and s.inert_fraction_reactor_inlet > limit else "")
-            print(f"  {name}: per-pass {s.first_reaction_conversion:.4f}, overall "
-                  f"{s.overall_conversion:.4f}, inert at inlet "
-                  f"{100 * s.inert_fraction_reactor_inlet:.2f} %{over}, recycle "
-                  f"{sum(s.flows['recycle'].values()):,.0f} kmol/h, TAC "
-                  f"{s.tac_per_year:,.0f} {lp_.prices.currency}/yr, balance error "
-                  f"{s.balance_error:.1e}")
         except NoSteadyStateError as exc:
             print(f"  {name}: {exc}")
+            continue
+        print(f"  {name}: per-pass {s.first_reaction_conversion:.4f}, overall "
+              f"{s.overall_conversion:.4f}, inert at inlet "
+              f"{100 * s.inert_fraction_reactor_inlet:.2f} %, recycle "
+              f"{sum(s.flows['recycle'].values()):,.0f} kmol/h, TAC "
+              f"{s.tac_per_year:,.0f} {lp_.prices.currency}/yr, balance error "
+              f"{s.balance_error:.1e}")
+        for line in _limit_lines(lp_, s):
+            print(line)
     print("case is valid")
     return EXIT_OK
 
@@ -185,13 +197,6 @@ def cmd_new(args) -> int:
     write_atomically(target, lambda tmp: Path(tmp).write_text(text, encoding="utf-8"))
     print(f"wrote {target}; edit it, then run: purgeplan check {target}")
     return EXIT_OK
-
-
-def _records(rows, digest: str):
-    from .output.json_out import alternative_record, document
-
-    return document(digest, [alternative_record(name, loop, opt, choices, rank)
-                             for rank, name, choices, loop, opt in rows])
 
 
 def cmd_evaluate(args) -> int:
@@ -216,9 +221,11 @@ def cmd_evaluate(args) -> int:
         for key, value in opt.state.costs.items():
             print(f"    {key:<32} {value:16,.0f} {loop.prices.currency}/yr")
     if args.json:
-        from .output.json_out import write_json
+        from .output.json_out import alternatives_document, write_json
+        from .study import Alternative
 
-        write_json(args.json, _records([(None, name, choices, loop, opt)], digest))
+        write_json(args.json, alternatives_document(
+            digest, [Alternative(name, choices, loop, opt)], ranked=False))
     return _status_of([opt])
 
 
@@ -226,23 +233,22 @@ def cmd_optimize(args) -> int:
     from .build import build_loop
     from .case import expand_alternatives
     from .solve import optimise
+    from .study import Alternative, rank
 
     case, digest = _load(args.case)
     picked = _pick(expand_alternatives(case), args.alternative)
-    rows = []
+    alts = []
     for name, choices, c in picked:
         loop = build_loop(c, name)
-        rows.append((name, choices, loop, optimise(loop, time_limit_s=args.time_limit)))
-    ok = sorted((r for r in rows if r[3].feasible), key=lambda r: (r[3].state.tac_per_year,
-                                                                    r[0]))
-    ranked = [(i + 1, *r) for i, r in enumerate(ok)] + [(None, *r) for r in rows
-                                                         if not r[3].feasible]
-    _print_table([(rk, n, o) for rk, n, _, _, o in ranked], rows[0][2].prices.currency)
+        alts.append(Alternative(name, choices, loop,
+                                optimise(loop, time_limit_s=args.time_limit)))
+    ranked = rank(alts)
+    _print_table([(a.rank, a.name, a.optimum) for a in ranked], alts[0].loop.prices.currency)
     if args.json:
-        from .output.json_out import write_json
+        from .output.json_out import alternatives_document, write_json
 
-        write_json(args.json, _records(ranked, digest))
-    return _status_of([r[3] for r in rows])
+        write_json(args.json, alternatives_document(digest, ranked))
+    return _status_of([a.optimum for a in alts])
 
 
 def cmd_study(args) -> int:
@@ -273,16 +279,17 @@ def cmd_study(args) -> int:
     print(f"study: {case.case.name} (case sha256 {digest[:12]})")
     _print_table([(a.rank, a.name, a.optimum) for a in result.alternatives], result.currency)
     for be in result.break_even:
-        if be.get("premium_per_kmol") is not None:
-            print(f"break-even: {be['grade']} ties with {be['base_grade']} at a premium of "
-                  f"{be['premium_per_kmol']:.4f} {result.currency}/kmol "
-                  f"({be['premium_percent']:.2f} % of the base price)")
+        if be.premium_per_kmol is not None:
+            print(f"break-even: {be.grade} ties with {be.base_grade} at a premium of "
+                  f"{be.premium_per_kmol:.4f} {result.currency}/kmol "
+                  f"({be.premium_percent:.2f} % of the base price)")
+        else:
+            print(f"break-even: {be.grade} against {be.base_grade}: {be.note}")
     from .output.workbook import write_workbook
 
     written = [write_workbook(args.output, result)]
     if args.json:
-        from .output.json_out import write_json
-        from .study import study_document
+        from .output.json_out import study_document, write_json
 
         written.append(write_json(args.json, study_document(result)))
     if args.plots:

@@ -5,12 +5,18 @@ independent task (:func:`run_task`): plain data in, a plain result out.  The
 study hands tasks to an executor (in-process by default, a local process pool
 with ``jobs > 1``, or a Dask distributed client) and merges results in a fixed
 order, whatever order they finish in.
+
+The study's answers are typed records: :class:`BreakEven` for each purer
+make-up grade and :class:`SensitivityRow` (with one :class:`Swing` per
+alternative) for each lever.  The workbook, the plots and the JSON document
+read their attributes.
 """
 
 from __future__ import annotations
 
 import dataclasses
 import datetime as dt
+import math
 from collections.abc import Callable, Mapping
 from dataclasses import dataclass, field
 
@@ -35,6 +41,66 @@ class Alternative:
     rank: int | None = None
 
 
+@dataclass(frozen=True)
+class BreakEven:
+    """The price at which a purer make-up grade's best alternative ties with the base grade's.
+
+    Prices in the case currency per kmol, TAC per year.  Without a tie the
+    tie price, the premium and the TAC at the tie are None and ``note`` says why.
+    """
+
+    grade: str
+    base_grade: str
+    alternative: str
+    base_alternative: str
+    base_price_per_kmol: float
+    grade_price_per_kmol: float
+    tie_price_per_kmol: float | None
+    premium_per_kmol: float | None
+    premium_percent: float | None
+    tac_at_tie_per_year: float | None
+    note: str | None = None
+
+
+@dataclass(frozen=True)
+class Swing:
+    """One alternative's TAC with a lever low, at the case value and high [currency/year].
+
+    ``low`` or ``high`` is None where the moved loop has no feasible optimum.
+    The applied factors are those the lever really applied to this loop (see
+    :meth:`Lever.apply`).
+    """
+
+    low: float | None
+    base: float
+    high: float | None
+    low_factor_applied: float
+    high_factor_applied: float
+
+
+@dataclass(frozen=True)
+class SensitivityRow:
+    """One lever moved down and up with every alternative re-optimised.
+
+    ``low_factor`` and ``high_factor`` are the factors asked for;
+    ``low_factor_applied`` and ``high_factor_applied`` the ones really applied
+    where a cap cut the move short (of the alternatives in ``tac``, the one
+    furthest from the factor asked for), and ``note`` says which cap.
+    """
+
+    lever: str
+    label: str
+    low_factor: float
+    high_factor: float
+    low_factor_applied: float
+    high_factor_applied: float
+    tac: dict[str, Swing]
+    best_at_low: str | None
+    best_at_high: str | None
+    best_changes: bool
+    note: str | None = None
+
+
 @dataclass
 class StudyResult:
     case_name: str
@@ -43,8 +109,8 @@ class StudyResult:
     currency: str
     created: str
     alternatives: list[Alternative]
-    break_even: list[dict] = field(default_factory=list)
-    sensitivity: list[dict] = field(default_factory=list)
+    break_even: list[BreakEven] = field(default_factory=list)
+    sensitivity: list[SensitivityRow] = field(default_factory=list)
     sensitivity_fraction: float = 0.2
 
     @property
@@ -71,12 +137,20 @@ class Task:
     variants: tuple = ()
 
 
-def run_task(task: Task) -> tuple[tuple, object]:
+@dataclass(frozen=True)
+class VariantOptima:
+    """The optima of a task's variants (the same loop at other prices or assumptions), by key."""
+
+    optima: dict[tuple, Optimum]
+
+
+def run_task(task: Task) -> tuple[tuple, Optimum | VariantOptima]:
     """Optimise one alternative (pure; safe in a worker process).
 
     With ``variants`` (pairs of key and the same loop at other prices or
-    assumptions) the task returns a dict of their optima instead; variants
-    that change only prices reuse the converged flows of one solver.
+    assumptions) the task returns their optima as :class:`VariantOptima`
+    instead; variants that change only prices reuse the converged flows of
+    one solver.
     """
     if not task.variants:
         return task.key, optimise(task.loop, time_limit_s=task.time_limit_s,
@@ -84,14 +158,15 @@ def run_task(task: Task) -> tuple[tuple, object]:
     solver = LoopLP(task.loop)
     # the base optimum again, in this worker, so that its converged states can be re-priced
     optimise(task.loop, details=False, reuse=solver)
-    return task.key, {key: optimise(loop, details=False, reuse=solver,
-                                    time_limit_s=task.time_limit_s)
-                      for key, loop in task.variants}
+    return task.key, VariantOptima({key: optimise(loop, details=False, reuse=solver,
+                                                  time_limit_s=task.time_limit_s)
+                                    for key, loop in task.variants})
 
 
 def run_tasks(tasks: list[Task], jobs: int = 1, client=None,
-              progress: Callable[[int], None] | None = None) -> dict[tuple, Optimum]:
-    """Run tasks on the chosen executor; results keyed by task key.
+              progress: Callable[[int], None] | None = None
+              ) -> dict[tuple, Optimum | VariantOptima]:
+    """Run tasks on the chosen executor; results keyed by task key, in the order of ``tasks``.
 
     Parameters
     ----------
@@ -102,7 +177,7 @@ def run_tasks(tasks: list[Task], jobs: int = 1, client=None,
     progress : callable, optional
         Called with the number of tasks finished since the last call.
     """
-    results: dict[tuple, object] = {}
+    results: dict[tuple, Optimum | VariantOptima] = {}
     if client is not None:
         from dask.distributed import as_completed
 
@@ -127,7 +202,7 @@ def run_tasks(tasks: list[Task], jobs: int = 1, client=None,
             results[key] = opt
             if progress:
                 progress(1)
-    return results
+    return {t.key: results[t.key] for t in tasks}
 
 
 # ---------------------------------------------------------------------------
@@ -150,6 +225,11 @@ def rank(alternatives: list[Alternative]) -> list[Alternative]:
 # ---------------------------------------------------------------------------
 # price levers
 
+#: Longest year on stream: a leap year of 366 days [h/year].
+MAX_HOURS_PER_YEAR = 8784.0
+#: Highest fixed per-pass conversion a lever may set [-].
+MAX_PER_PASS_CONVERSION = 0.999
+
 
 def with_source_prices(loop: Loop, prices: Mapping[str, float]) -> Loop:
     """The loop with new prices for the named sources [currency/kmol]."""
@@ -162,21 +242,34 @@ def _scale_sources(loop: Loop, factor: float) -> Loop:
                                      in loop.prices.source_price_per_kmol.items()})
 
 
-def _price(loop: Loop, factor: float, **fields) -> Loop:
-    changes = {k: getattr(loop.prices, k) * factor for k in fields}
-    return dataclasses.replace(loop, prices=dataclasses.replace(loop.prices, **changes))
+def _source_prices(loop: Loop) -> tuple[float, ...]:
+    return tuple(loop.prices.source_price_per_kmol.values())
+
+
+def _price(name: str) -> tuple[Callable[[Loop, float], Loop], Callable[[Loop], tuple]]:
+    """Move and reading of one field of :class:`purgeplan.loop.Prices`."""
+    def move(loop: Loop, factor: float) -> Loop:
+        return dataclasses.replace(loop, prices=dataclasses.replace(
+            loop.prices, **{name: getattr(loop.prices, name) * factor}))
+
+    return move, lambda loop: (getattr(loop.prices, name),)
+
+
+_CAPITALS = ("compressor_capital", "reactor_capital", "recovery_capital")
 
 
 def _capital(loop: Loop, factor: float) -> Loop:
-    p = loop.prices
-
     def scale(c):
         return None if c is None else dataclasses.replace(c, reference_cost=c.reference_cost
                                                           * factor)
 
     return dataclasses.replace(loop, prices=dataclasses.replace(
-        p, compressor_capital=scale(p.compressor_capital),
-        reactor_capital=scale(p.reactor_capital), recovery_capital=scale(p.recovery_capital)))
+        loop.prices, **{name: scale(getattr(loop.prices, name)) for name in _CAPITALS}))
+
+
+def _capital_costs(loop: Loop) -> tuple[float, ...]:
+    return tuple(c.reference_cost for c in (getattr(loop.prices, n) for n in _CAPITALS)
+                 if c is not None)
 
 
 def _efficiency(loop: Loop, factor: float) -> Loop:
@@ -184,12 +277,16 @@ def _efficiency(loop: Loop, factor: float) -> Loop:
                                makeup_efficiency=min(loop.makeup_efficiency * factor, 1.0))
 
 
+def _efficiencies(loop: Loop) -> tuple[float, ...]:
+    return loop.recycle_efficiency, loop.makeup_efficiency
+
+
 def _per_pass(loop: Loop, factor: float) -> Loop:
     reactions = []
     for r in loop.reactions:
         if r.per_pass == "fixed":
             r = dataclasses.replace(r, per_pass_conversion=min(r.per_pass_conversion * factor,
-                                                               0.999))
+                                                               MAX_PER_PASS_CONVERSION))
         elif r.per_pass == "equilibrium":
             r = dataclasses.replace(r, approach_to_equilibrium=min(
                 r.approach_to_equilibrium * factor, 1.0))
@@ -197,24 +294,134 @@ def _per_pass(loop: Loop, factor: float) -> Loop:
     return dataclasses.replace(loop, reactions=tuple(reactions))
 
 
+def _per_pass_values(loop: Loop) -> tuple[float, ...]:
+    """Fixed per-pass conversions and approaches to equilibrium (a sized reactor has none)."""
+    return tuple(r.per_pass_conversion if r.per_pass == "fixed" else r.approach_to_equilibrium
+                 for r in loop.reactions if r.per_pass in ("fixed", "equilibrium"))
+
+
 def _hours(loop: Loop, factor: float) -> Loop:
     return dataclasses.replace(loop, prices=dataclasses.replace(
-        loop.prices, hours_per_year=min(loop.prices.hours_per_year * factor, 8784.0)))
+        loop.prices, hours_per_year=min(loop.prices.hours_per_year * factor,
+                                        MAX_HOURS_PER_YEAR)))
 
 
-#: Sensitivity levers: name -> (label, function(loop, factor) -> loop).
-LEVERS: dict[str, tuple[str, Callable[[Loop, float], Loop]]] = {
-    "makeup_gas_price": ("Make-up gas and feed prices", _scale_sources),
-    "power_price": ("Power price", lambda lp_, f: _price(lp_, f, power_price_per_kwh=1)),
-    "fuel_price": ("Fuel value of purge gas", lambda lp_, f: _price(lp_, f, fuel_price_per_gj=1)),
-    "catalyst_price": ("Catalyst price",
-                       lambda lp_, f: _price(lp_, f, catalyst_price_per_m3=1)),
-    "capital_cost": ("Capital cost (all reference costs)", _capital),
-    "discount_rate": ("Discount rate", lambda lp_, f: _price(lp_, f, discount_rate=1)),
-    "hours_per_year": ("Hours on stream", _hours),
-    "compressor_efficiency": ("Compressor efficiencies", _efficiency),
-    "per_pass_performance": ("Per-pass conversion or approach to equilibrium", _per_pass),
+@dataclass(frozen=True)
+class Lever:
+    """One sensitivity lever.
+
+    Attributes
+    ----------
+    label : str
+        The lever in plain words.
+    move : callable
+        ``move(loop, factor) -> loop``: the loop with the lever's values times ``factor``.
+    reading : callable
+        ``reading(loop) -> tuple of floats``: the values the lever moves.
+    cap : str
+        The cap that may cut a move short, in plain words ("" for none).
+    """
+
+    label: str
+    move: Callable[[Loop, float], Loop]
+    reading: Callable[[Loop], tuple[float, ...]]
+    cap: str = ""
+
+    def apply(self, loop: Loop, factor: float) -> tuple[Loop, float]:
+        """The moved loop and the factor really applied to it.
+
+        The applied factor is measured on the moved loop: of the lever's
+        non-zero values, the ratio new / old furthest from ``factor`` (so a
+        cap that cuts one value short shows), ``factor`` itself where that
+        ratio is within rounding (1e-12 relative) of it; 1.0 when the lever
+        has no non-zero value to move in this loop.
+        """
+        moved = self.move(loop, factor)
+        ratios = [new / old for old, new in zip(self.reading(loop), self.reading(moved),
+                                                strict=True) if old != 0.0]
+        applied = max(ratios, key=lambda r: abs(r - factor), default=1.0)
+        # new / old of an uncapped value is the factor up to rounding
+        return moved, factor if math.isclose(applied, factor, rel_tol=1e-12) else applied
+
+
+#: Sensitivity levers by name.
+LEVERS: dict[str, Lever] = {
+    "makeup_gas_price": Lever("Make-up gas and feed prices", _scale_sources, _source_prices),
+    "power_price": Lever("Power price", *_price("power_price_per_kwh")),
+    "fuel_price": Lever("Fuel value of purge gas", *_price("fuel_price_per_gj")),
+    "catalyst_price": Lever("Catalyst price", *_price("catalyst_price_per_m3")),
+    "capital_cost": Lever("Capital cost (all reference costs)", _capital, _capital_costs),
+    "discount_rate": Lever("Discount rate", *_price("discount_rate")),
+    "hours_per_year": Lever("Hours on stream", _hours, lambda lp_: (lp_.prices.hours_per_year,),
+                            f"hours on stream at most {MAX_HOURS_PER_YEAR:g} h/year"),
+    "compressor_efficiency": Lever("Compressor efficiencies", _efficiency, _efficiencies,
+                                   "compressor efficiencies at most 1"),
+    "per_pass_performance": Lever("Per-pass conversion or approach to equilibrium", _per_pass,
+                                  _per_pass_values,
+                                  f"per-pass conversion at most {MAX_PER_PASS_CONVERSION:g}, "
+                                  "approach to equilibrium at most 1"),
 }
+
+
+# ---------------------------------------------------------------------------
+# sensitivity
+
+
+def _tac(opt: Optimum) -> float | None:
+    return opt.state.tac_per_year if opt.feasible else None
+
+
+def _furthest(factors, asked: float) -> float:
+    return max(factors, key=lambda f: abs(f - asked), default=asked)
+
+
+def _factor_text(f: float) -> str:
+    return f"{f:.4g}"
+
+
+def run_sensitivity(alternatives: list[Alternative], fraction: float, *, jobs: int = 1,
+                    client=None, time_limit_s: float | None = None,
+                    progress: Callable[[int], None] | None = None) -> list[SensitivityRow]:
+    """Each lever of :data:`LEVERS` at ``1 - fraction`` and ``1 + fraction``, re-optimised.
+
+    ``alternatives`` are optimised, feasible alternatives, the best first; one
+    task per alternative carries all of its moved loops.
+    """
+    sides = (("low", 1.0 - fraction), ("high", 1.0 + fraction))
+    moved = {(lever, side, a.name): LEVERS[lever].apply(a.loop, factor)
+             for a in alternatives for lever in LEVERS for side, factor in sides}
+    tasks = [Task(("sensitivity", a.name), a.loop, time_limit_s, False, tuple(
+        ((lever, side, a.name), moved[(lever, side, a.name)][0])
+        for lever in LEVERS for side, _ in sides)) for a in alternatives]
+    optima: dict[tuple, Optimum] = {}
+    for part in run_tasks(tasks, jobs, client, progress).values():
+        optima.update(part.optima)
+    first = alternatives[0].name if alternatives else None
+    rows = []
+    for lever, spec in LEVERS.items():
+        tac = {a.name: Swing(low=_tac(optima[(lever, "low", a.name)]),
+                             base=a.optimum.state.tac_per_year,
+                             high=_tac(optima[(lever, "high", a.name)]),
+                             low_factor_applied=moved[(lever, "low", a.name)][1],
+                             high_factor_applied=moved[(lever, "high", a.name)][1])
+               for a in alternatives}
+        best = {}
+        for side in ("low", "high"):
+            cands = [(getattr(s, side), n) for n, s in tac.items() if getattr(s, side) is not None]
+            best[side] = min(cands)[1] if cands else None
+        applied = {side: _furthest([getattr(s, f"{side}_factor_applied") for s in tac.values()],
+                                   factor) for side, factor in sides}
+        cut = [f"{side} factor applied {_factor_text(applied[side])}, not "
+               f"{_factor_text(factor)}" for side, factor in sides if applied[side] != factor]
+        note = None
+        if cut:
+            note = (f"{spec.cap}: " if spec.cap else "") + "; ".join(cut)
+        rows.append(SensitivityRow(
+            lever=lever, label=spec.label, low_factor=sides[0][1], high_factor=sides[1][1],
+            low_factor_applied=applied["low"], high_factor_applied=applied["high"], tac=tac,
+            best_at_low=best["low"], best_at_high=best["high"],
+            best_changes=any(best[s] != first for s in ("low", "high")), note=note))
+    return rows
 
 
 # ---------------------------------------------------------------------------
@@ -230,7 +437,7 @@ def _inert_fraction(loop: Loop, source_name: str) -> float:
     return sum(src.composition[c] for c in loop.inerts)
 
 
-def break_even(alternatives: list[Alternative]) -> list[dict]:
+def break_even(alternatives: list[Alternative]) -> list[BreakEven]:
     """Premium at which each purer make-up grade's best alternative ties with the base grade's.
 
     The base grade is the least pure single-source grade among the feasible
@@ -261,26 +468,27 @@ def break_even(alternatives: list[Alternative]) -> list[dict]:
                 raise RuntimeError(opt.message)
             return opt.state.tac_per_year - target
 
+        grade_price = alt.loop.prices.source_price_per_kmol[g]
         flow = alt.optimum.state.sources[g] * alt.loop.prices.hours_per_year
-        guess = alt.loop.prices.source_price_per_kmol[g] - gap(
-            alt.loop.prices.source_price_per_kmol[g]) / flow
+        guess = grade_price - gap(grade_price) / flow
         lo, hi = max(0.0, guess - 0.05 * base_price - 1e-9), guess + 0.05 * base_price + 1e-9
-        entry = {"grade": g, "base_grade": base, "alternative": alt.name,
-                 "base_alternative": best[base].name, "base_price_per_kmol": base_price,
-                 "grade_price_per_kmol": alt.loop.prices.source_price_per_kmol[g]}
+        common = dict(grade=g, base_grade=base, alternative=alt.name,
+                      base_alternative=best[base].name, base_price_per_kmol=base_price,
+                      grade_price_per_kmol=grade_price)
         try:
             while gap(lo) > 0 and lo > 0:
                 lo = max(0.0, lo - 0.25 * base_price)
             while gap(hi) < 0:
                 hi += 0.25 * base_price
             price = brentq(gap, lo, hi, xtol=1e-10 * base_price, rtol=1e-14)
-            entry.update(tie_price_per_kmol=price, premium_per_kmol=price - base_price,
-                         premium_percent=100.0 * (price - base_price) / base_price,
-                         tac_at_tie_per_year=target + gap(price))
+            out.append(BreakEven(**common, tie_price_per_kmol=price,
+                                 premium_per_kmol=price - base_price,
+                                 premium_percent=100.0 * (price - base_price) / base_price,
+                                 tac_at_tie_per_year=target + gap(price)))
         except (RuntimeError, ValueError) as exc:
-            entry.update(tie_price_per_kmol=None, premium_per_kmol=None, premium_percent=None,
-                         note=f"no tie found: {exc}")
-        out.append(entry)
+            out.append(BreakEven(**common, tie_price_per_kmol=None, premium_per_kmol=None,
+                                 premium_percent=None, tac_at_tie_per_year=None,
+                                 note=f"no tie found: {exc}"))
     return out
 
 
@@ -311,29 +519,9 @@ def run_study(case: Case, case_sha256: str, *, jobs: int = 1, client=None,
 
     frac = case.economics.sensitivity_fraction
     top = [a for a in ordered if a.rank is not None][:sensitivity_alternatives]
-    sens_tasks = [Task(("sensitivity", a.name), a.loop, time_limit_s, False, tuple(
-        ((lever, side, a.name), fn(a.loop, 1.0 + sign * frac))
-        for lever, (_, fn) in LEVERS.items() for side, sign in (("low", -1.0), ("high", 1.0))))
-        for a in top]
-    sens = {}
-    for part in run_tasks(sens_tasks, jobs, client,
-                          tick("sensitivity", len(sens_tasks))).values():
-        sens.update(part)
-    sensitivity = []
-    for lever, (label, _) in LEVERS.items():
-        row = {"lever": lever, "label": label, "low_factor": 1.0 - frac,
-               "high_factor": 1.0 + frac, "tac": {}}
-        for a in top:
-            row["tac"][a.name] = {
-                "low": _tac(sens[(lever, "low", a.name)]),
-                "base": a.optimum.state.tac_per_year,
-                "high": _tac(sens[(lever, "high", a.name)])}
-        for side in ("low", "high"):
-            cands = [(v[side], n) for n, v in row["tac"].items() if v[side] is not None]
-            row[f"best_at_{side}"] = min(cands)[1] if cands else None
-        row["best_changes"] = any(row[f"best_at_{s}"] != (top[0].name if top else None)
-                                  for s in ("low", "high"))
-        sensitivity.append(row)
+    sensitivity = run_sensitivity(top, frac, jobs=jobs, client=client,
+                                  time_limit_s=time_limit_s,
+                                  progress=tick("sensitivity", len(top)))
     if progress:
         progress("break-even", 0, 1)
     be = break_even(ordered)
@@ -345,20 +533,3 @@ def run_study(case: Case, case_sha256: str, *, jobs: int = 1, client=None,
         created=dt.datetime.now(dt.UTC).replace(microsecond=0).isoformat(),
         alternatives=ordered, break_even=be, sensitivity=sensitivity,
         sensitivity_fraction=frac)
-
-
-def _tac(opt: Optimum) -> float | None:
-    return opt.state.tac_per_year if opt.feasible else None
-
-
-def study_document(result: StudyResult) -> dict:
-    """The study as the JSON contract, plus ranking, break-even and sensitivity."""
-    from .output.json_out import alternative_record, document
-
-    records = [alternative_record(a.name, a.loop, a.optimum, a.choices, a.rank)
-               for a in result.alternatives]
-    return document(result.case_sha256, records, case_name=result.case_name,
-                    currency=result.currency, created=result.created,
-                    ranking=[a.name for a in result.ranked], break_even=result.break_even,
-                    sensitivity=result.sensitivity,
-                    sensitivity_fraction=result.sensitivity_fraction)

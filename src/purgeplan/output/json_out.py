@@ -1,21 +1,31 @@
 """JSON results: a stable contract for scripting.
 
 Top level: ``tool_version``, ``case_sha256``, ``alternatives`` (a list; see
-:func:`alternative_record`).  Flows in kmol/h, money in the case currency
-per year.  Non-finite numbers are written as null.
+:func:`alternative_record`); ranked results add ``ranking`` (names, best
+first); a study adds ``case_name``, ``currency``, ``created``, ``break_even``
+(the fields of :class:`purgeplan.study.BreakEven`), ``sensitivity`` (the
+fields of :class:`purgeplan.study.SensitivityRow`) and
+``sensitivity_fraction``.  Flows in kmol/h, money in the case currency per
+year.  Non-finite numbers are written as null.
 """
 
 from __future__ import annotations
 
+import dataclasses
 import json
 import math
+from collections.abc import Iterable
 from pathlib import Path
+from typing import TYPE_CHECKING
 
 from .. import __version__
 from ..equations import stream_conditions
 from ..loop import Loop
 from ..solve import Optimum
 from .atomic import write_atomically
+
+if TYPE_CHECKING:
+    from ..study import Alternative, StudyResult
 
 
 def _clean(x):
@@ -75,6 +85,32 @@ def document(case_sha256: str, records: list[dict], **extra) -> dict:
     """The top-level JSON document."""
     return _clean({"tool_version": __version__, "case_sha256": case_sha256,
                    "alternatives": records, **extra})
+
+
+def alternatives_document(case_sha256: str, alternatives: Iterable[Alternative], *,
+                          ranked: bool = True, **extra) -> dict:
+    """The document of a list of alternatives, in the order given.
+
+    With ``ranked`` the names of the ranked alternatives follow as
+    ``ranking``, best first (the ranks come from :func:`purgeplan.study.rank`).
+    """
+    alternatives = list(alternatives)
+    records = [alternative_record(a.name, a.loop, a.optimum, a.choices, a.rank)
+               for a in alternatives]
+    if ranked:
+        extra = {"ranking": [a.name for a in sorted(
+            (a for a in alternatives if a.rank is not None), key=lambda a: a.rank)], **extra}
+    return document(case_sha256, records, **extra)
+
+
+def study_document(result: StudyResult) -> dict:
+    """The study: its alternatives, ranking, break-even premiums and sensitivity."""
+    return alternatives_document(
+        result.case_sha256, result.alternatives, case_name=result.case_name,
+        currency=result.currency, created=result.created,
+        break_even=[dataclasses.asdict(b) for b in result.break_even],
+        sensitivity=[dataclasses.asdict(r) for r in result.sensitivity],
+        sensitivity_fraction=result.sensitivity_fraction)
 
 
 def write_json(path: str | Path, doc: dict) -> Path:

@@ -4,8 +4,12 @@ from __future__ import annotations
 
 import math
 from pathlib import Path
+from typing import TYPE_CHECKING
 
 from .atomic import write_atomically
+
+if TYPE_CHECKING:
+    from ..study import StudyResult
 
 
 def _pyplot():
@@ -17,7 +21,7 @@ def _pyplot():
     return plt
 
 
-def plot_cost_curves(path: str | Path, study) -> Path:
+def plot_cost_curves(path: str | Path, study: StudyResult) -> Path:
     """TAC against purge fraction for every feasible alternative, optima marked."""
     plt = _pyplot()
     fig, ax = plt.subplots(figsize=(8, 6.5), dpi=120)
@@ -47,18 +51,21 @@ def plot_cost_curves(path: str | Path, study) -> Path:
     return out
 
 
-def plot_sensitivity(path: str | Path, study) -> Path:
+def plot_sensitivity(path: str | Path, study: StudyResult) -> Path:
     """Tornado of TAC swings of the best alternative for each lever."""
     plt = _pyplot()
     best = study.best
     rows = []
     for row in study.sensitivity:
-        t = row["tac"].get(best.name) if best else None
-        if not t:
+        if best is None or best.name not in row.tac:
             continue
-        low = (t["low"] - t["base"]) / 1e6 if t["low"] is not None else math.nan
-        high = (t["high"] - t["base"]) / 1e6 if t["high"] is not None else math.nan
-        rows.append((row["label"], low, high))
+        t = row.tac[best.name]
+        low = (t.low - t.base) / 1e6 if t.low is not None else math.nan
+        high = (t.high - t.base) / 1e6 if t.high is not None else math.nan
+        cut = [f"{side} x{applied:.4g}" for side, asked, applied in (
+            ("low", row.low_factor, row.low_factor_applied),
+            ("high", row.high_factor, row.high_factor_applied)) if applied != asked]
+        rows.append((row.label + (f" ({', '.join(cut)} applied)" if cut else ""), low, high))
     rows.sort(key=lambda r: max(abs(r[1]), abs(r[2])) if not math.isnan(r[1]) else 0)
     fig, ax = plt.subplots(figsize=(8, 5), dpi=120)
     y = range(len(rows))

@@ -39,6 +39,7 @@ from openpyxl.workbook.defined_name import DefinedName
 from openpyxl.worksheet.worksheet import Worksheet
 
 from .. import costs
+from ..cautions import CAUTIONS
 from ..equations import stream_conditions
 from ..study import Alternative, StudyResult
 from .atomic import write_atomically
@@ -54,14 +55,6 @@ CURVES = "Cost curves"
 SENSITIVITY = "Sensitivity"
 NOTES = "Notes"
 SHEETS = (SUMMARY, RANKING, ASSUMPTIONS, COSTS, STREAMS, CURVES, SENSITIVITY, NOTES)
-
-CAUTIONS = (
-    "Purge gas is flammable and often toxic (hydrogen, ammonia, carbon monoxide).",
-    "Synthesis and other recycle loops run at high pressure.",
-    "The figures in this workbook are feasibility-grade estimates, not a design basis.",
-    "Equipment design, relief and flare systems follow local codes and licensed "
-    "engineering practice.",
-)
 
 UNITS = (
     ("-", "dimensionless (fractions, ratios, exponents)"),
@@ -96,6 +89,7 @@ FMT_MONEY_2 = "#,##0.00"
 FMT_FRACTION = "0.000000"
 FMT_QUANTITY = "#,##0.000"
 FMT_FACTOR = "0.00"
+FMT_FACTOR_APPLIED = "0.0000"
 FMT_PERCENT = "0.000"
 FMT_CRF = "0.0000000"
 
@@ -628,17 +622,17 @@ def _break_even_table(ws: Worksheet, row: int, study: StudyResult) -> int:
                       "Note"])
     row += 1
     for entry in study.break_even:
-        _text(ws, row, 1, entry.get("grade", ""))
-        _text(ws, row, 2, entry.get("base_grade", ""))
-        _text(ws, row, 3, entry.get("alternative", ""))
-        _text(ws, row, 4, entry.get("base_alternative", ""))
-        _number(ws, row, 5, entry.get("base_price_per_kmol"), "0.0000")
-        _number(ws, row, 6, entry.get("grade_price_per_kmol"), "0.0000")
-        _number(ws, row, 7, entry.get("tie_price_per_kmol"), "0.000000")
-        _number(ws, row, 8, entry.get("premium_per_kmol"), "0.000000")
-        _number(ws, row, 9, entry.get("premium_percent"), FMT_PERCENT)
-        _number(ws, row, 10, entry.get("tac_at_tie_per_year"), FMT_MONEY)
-        _text(ws, row, 11, entry.get("note", ""))
+        _text(ws, row, 1, entry.grade)
+        _text(ws, row, 2, entry.base_grade)
+        _text(ws, row, 3, entry.alternative)
+        _text(ws, row, 4, entry.base_alternative)
+        _number(ws, row, 5, entry.base_price_per_kmol, "0.0000")
+        _number(ws, row, 6, entry.grade_price_per_kmol, "0.0000")
+        _number(ws, row, 7, entry.tie_price_per_kmol, "0.000000")
+        _number(ws, row, 8, entry.premium_per_kmol, "0.000000")
+        _number(ws, row, 9, entry.premium_percent, FMT_PERCENT)
+        _number(ws, row, 10, entry.tac_at_tie_per_year, FMT_MONEY)
+        _text(ws, row, 11, entry.note or "")
         row += 1
     return row
 
@@ -790,32 +784,36 @@ def _sensitivity_sheet(ws: Worksheet, study: StudyResult, refs: _Refs) -> None:
                   f"with every alternative re-optimised (TAC in {cur}/year, values)")
     ws.freeze_panes = "B4"
     rows = study.sensitivity
-    names = list(dict.fromkeys(n for r in rows for n in r.get("tac", {})))
+    names = list(dict.fromkeys(n for r in rows for n in r.tac))
     numbers = {n: refs.by_name(n) for n in names}
     row = 3
-    header = ["Lever", "Description", "Low factor [-]", "High factor [-]"]
+    header = ["Lever", "Description", "Low factor [-]", "High factor [-]",
+              "Low factor applied [-]", "High factor applied [-]"]
     for n in names:
         header += [f"Alt. {numbers[n]} TAC at low [{cur}/year]",
                    f"Alt. {numbers[n]} TAC at base [{cur}/year]",
                    f"Alt. {numbers[n]} TAC at high [{cur}/year]"]
-    header += ["Best at low", "Best at high", "Best changes"]
+    header += ["Best at low", "Best at high", "Best changes", "Note"]
     _header(ws, row, header)
     ws.row_dimensions[row].height = 45
     row += 1
     for r in rows:
-        _text(ws, row, 1, r.get("lever", ""))
-        _text(ws, row, 2, r.get("label", ""))
-        _number(ws, row, 3, r.get("low_factor"), FMT_FACTOR)
-        _number(ws, row, 4, r.get("high_factor"), FMT_FACTOR)
-        col = 5
+        _text(ws, row, 1, r.lever)
+        _text(ws, row, 2, r.label)
+        _number(ws, row, 3, r.low_factor, FMT_FACTOR)
+        _number(ws, row, 4, r.high_factor, FMT_FACTOR)
+        _number(ws, row, 5, r.low_factor_applied, FMT_FACTOR_APPLIED)
+        _number(ws, row, 6, r.high_factor_applied, FMT_FACTOR_APPLIED)
+        col = 7
         for n in names:
-            tac = r.get("tac", {}).get(n, {})
+            swing = r.tac[n] if n in r.tac else None
             for side in ("low", "base", "high"):
-                _number(ws, row, col, tac.get(side), FMT_MONEY)
+                _number(ws, row, col, getattr(swing, side) if swing else None, FMT_MONEY)
                 col += 1
-        _text(ws, row, col, r.get("best_at_low") or "n/a")
-        _text(ws, row, col + 1, r.get("best_at_high") or "n/a")
-        _text(ws, row, col + 2, "yes" if r.get("best_changes") else "no")
+        _text(ws, row, col, r.best_at_low or "n/a")
+        _text(ws, row, col + 1, r.best_at_high or "n/a")
+        _text(ws, row, col + 2, "yes" if r.best_changes else "no")
+        _text(ws, row, col + 3, r.note or "")
         row += 1
     if not rows:
         _text(ws, row, 1, "No sensitivity was run.")
@@ -829,9 +827,10 @@ def _sensitivity_sheet(ws: Worksheet, study: StudyResult, refs: _Refs) -> None:
         row += 1
     row = _swings(ws, row + 1, study, refs) + 1
     _off_optimum_table(ws, row, study, refs)
-    widths = {"A": 24, "B": 44, "C": 11, "D": 11}
-    for j in range(5, 5 + 3 * len(names) + 3):
+    widths = {"A": 24, "B": 44, "C": 11, "D": 11, "E": 11, "F": 11}
+    for j in range(7, 7 + 3 * len(names) + 3):
         widths[get_column_letter(j)] = 17
+    widths[get_column_letter(7 + 3 * len(names) + 3)] = 60
     _widths(ws, widths)
 
 
@@ -839,7 +838,7 @@ def _swings(ws: Worksheet, row: int, study: StudyResult, refs: _Refs) -> int:
     """Swings of the best alternative's TAC (low - base, high - base) and a bar chart."""
     cur = study.currency
     best = study.best
-    data = [r for r in study.sensitivity if best is not None and best.name in r.get("tac", {})]
+    data = [r for r in study.sensitivity if best is not None and best.name in r.tac]
     if not data:
         return row
     _text(ws, row, 1, f"Swing of the best alternative's TAC ({_label(best, refs)})", bold=True)
@@ -848,11 +847,10 @@ def _swings(ws: Worksheet, row: int, study: StudyResult, refs: _Refs) -> int:
     _header(ws, row, ["Lever", f"Low - base [{cur}/year]", f"High - base [{cur}/year]"])
     row += 1
     for r in data:
-        tac = r["tac"][best.name]
-        _text(ws, row, 1, r.get("label", r.get("lever", "")))
-        for col, side in ((2, "low"), (3, "high")):
-            v, base = tac.get(side), tac.get("base")
-            _number(ws, row, col, None if v is None or base is None else v - base, FMT_MONEY)
+        swing = r.tac[best.name]
+        _text(ws, row, 1, r.label)
+        for col, v in ((2, swing.low), (3, swing.high)):
+            _number(ws, row, col, None if v is None else v - swing.base, FMT_MONEY)
         row += 1
     chart = BarChart()
     chart.type = "bar"
