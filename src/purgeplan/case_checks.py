@@ -20,13 +20,12 @@ from typing import TYPE_CHECKING, Any
 
 from .errors import CaseError
 from .physics import equilibrium, separation, thermo
+from .physics.thermo import KELVIN
 from .properties import ComponentData, lookup
 
 if TYPE_CHECKING:
     from .case import Case, ComponentSpec, ReactionSpec
 
-#: Zero of the Celsius scale [K] (the value of :data:`purgeplan.loop.KELVIN`).
-KELVIN = 273.15
 
 
 def key_part(part: Any) -> str:

@@ -88,8 +88,8 @@ class Engine:
                 raise AssertionError("loop equations: the constants depend on design variables")
         if a0.shape[0] != a0.shape[1]:
             raise NoSteadyStateError(
-                f"{a0.shape[0]} equations for {a0.shape[1]} unknowns: each feed that enters "
-                "the reactor directly needs one loop.inlet_ratios entry")
+                f"{a0.shape[0]} equations for {a0.shape[1]} unknowns: case validation "
+                "(purgeplan.case_checks) should have refused the loop.inlet_ratios of this case")
 
     def _vars(self, purge_fraction, conversion):
         idx = self.index

@@ -16,9 +16,10 @@ from __future__ import annotations
 
 from dataclasses import dataclass, field
 
+from .physics.thermo import KELVIN
 from .properties import ComponentData
 
-KELVIN = 273.15
+__all__ = ["KELVIN", "Capital", "Loop", "Prices", "Reaction", "Source"]
 
 
 @dataclass(frozen=True)

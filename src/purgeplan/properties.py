@@ -60,9 +60,9 @@ class ComponentData:
         from chemicals import vapor_pressure as vp
 
         if self.vapour_pressure_coefficients is None:
-            raise CaseError(f"components.{self.name}",
-                            "no vapour pressure data for this component; give "
-                            "vapour_pressure_bar for the separator or use a split fraction")
+            raise CaseError(f"separator.liquid_fraction.{self.name}",
+                            f"no vapour pressure data for '{self.name}', so it cannot condense: "
+                            "give a split fraction, or an identifier the property library knows")
         kind, *coeffs = self.vapour_pressure_coefficients
         form = vp.Wagner if kind == "wagner" else vp.Wagner_original
         return form(temperature_k, *coeffs) / 1e5

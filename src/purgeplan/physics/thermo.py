@@ -13,6 +13,8 @@ from collections.abc import Sequence
 
 #: Molar gas constant [J/(mol K)] (CODATA 2018, exact by SI definition).
 R_J_MOL_K = 8.314462618
+#: Zero of the Celsius scale [K].
+KELVIN = 273.15
 
 #: Standard reference temperature [K].
 T_REF_K = 298.15
