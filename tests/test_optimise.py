@@ -77,7 +77,7 @@ def test_optimum_agrees_with_dense_engine_scan(case_file):
         assert same.tac_per_year == pytest.approx(tac, rel=1e-9)
         assert opt.state.balance_error < 1e-9
         # the cost curve brackets the optimum and lies on or above it
-        assert min(p["tac_per_year"] for p in opt.curve) >= tac * (1 - 1e-9)
+        assert min(p.tac_per_year for p in opt.curve) >= tac * (1 - 1e-9)
 
 
 def _small_case_text(**loop_extra):

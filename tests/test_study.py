@@ -78,11 +78,11 @@ def test_sensitivity_swings_have_the_expected_signs(study):
 def test_off_optimum_band_contains_the_optimum(study):
     for alt in study.ranked:
         off, s = alt.optimum.off_optimum, alt.optimum.state
-        lo, hi = off["band_1pct_purge_fraction"]
+        lo, hi = off.band_1pct_purge_fraction
         assert lo <= s.purge_fraction <= hi
-        for key in ("tac_half_purge_per_year", "tac_double_purge_per_year"):
-            if off[key] is not None:
-                assert off[key] >= s.tac_per_year
+        for tac in (off.tac_half_purge_per_year, off.tac_double_purge_per_year):
+            if tac is not None:
+                assert tac >= s.tac_per_year
 
 
 def _stable(doc):

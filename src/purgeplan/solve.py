@@ -18,7 +18,7 @@ from __future__ import annotations
 import logging
 import math
 import time
-from dataclasses import dataclass, field
+from dataclasses import dataclass
 
 import pyomo.environ as pyo
 from scipy.optimize import brentq
@@ -42,12 +42,39 @@ SIZED_SCAN_POINTS = 9
 
 @dataclass
 class SolverInfo:
+    """How a result was found: the solver, its status, solves, time, method and route.
+
+    ``route`` is "HiGHS LP" or "direct linear solve" (see
+    :mod:`purgeplan.reduced_space`); ``name`` is then "highs" or "lapack".
+    """
+
     name: str = "highs"
     status: str = "optimal"
     solves: int = 0
     seconds: float = 0.0
     method: str = ""
     route: str = ""
+
+
+@dataclass(frozen=True)
+class CurvePoint:
+    """One point of the cost curve around the optimum."""
+
+    purge_fraction: float
+    tac_per_year: float
+
+
+@dataclass(frozen=True)
+class OffOptimum:
+    """What running off the optimum costs [currency/year; purge fractions -].
+
+    None where the point lies outside the allowed purge-fraction box.  The
+    band is the range of purge fractions whose TAC is within 1 % of the lowest.
+    """
+
+    tac_half_purge_per_year: float | None
+    tac_double_purge_per_year: float | None
+    band_1pct_purge_fraction: tuple[float, float]
 
 
 @dataclass
@@ -60,15 +87,19 @@ class Optimum:
     message: str
     state: LoopState | None
     binding_constraints: list[str]
-    curve: list[dict]
+    curve: list[CurvePoint]
     solver: SolverInfo
-    off_optimum: dict = field(default_factory=dict)
+    off_optimum: OffOptimum | None = None
 
 
 def _failed(loop: Loop, info: SolverInfo, status: Status, message: str, t0: float) -> Optimum:
     info.status = status.value
     info.seconds = time.perf_counter() - t0
     return Optimum(loop.name, False, status, message, None, [], [], info)
+
+
+def _solver_name(solver: LoopLP) -> str:
+    return "lapack" if solver.route == ROUTE_DIRECT else "highs"
 
 
 def _method(loop: Loop, solver: LoopLP, scan_points: int, xtol_rel: float, solves: int) -> str:
@@ -148,10 +179,10 @@ def optimise(loop: Loop, *, scan_points: int = SCAN_POINTS, xtol_rel: float = 1e
                                 "re-solve as feasible")
         state = with_balances(loop, state)
         curve = _curve(loop, a_best, samples, f) if details else []
-        off = _off_optimum(loop, a_best, state.tac_per_year, f) if details else {}
+        off = _off_optimum(loop, a_best, state.tac_per_year, f) if details else None
         info.solves = solver.solves - solves_before
         info.seconds = time.perf_counter() - t0
-        info.route = solver.route
+        info.route, info.name = solver.route, _solver_name(solver)
         info.method = _method(loop, solver, scan_points, xtol_rel, info.solves)
         log.debug("%s: optimum at purge fraction %.6g after %d solves in %.3f s", loop.name,
                   state.purge_fraction, info.solves, info.seconds)
@@ -190,7 +221,7 @@ def evaluate_at(loop: Loop, purge_fraction: float, conversion: float | None = No
         state = solver.evaluate(purge_fraction, conversion)
         info.solves = solver.solves
         info.seconds = time.perf_counter() - t0
-        info.route = solver.route
+        info.route, info.name = solver.route, _solver_name(solver)
         if state is None:
             raise InfeasibleError(_diagnose(loop, solver, purge_fraction))
         state = with_balances(loop, state)
@@ -202,7 +233,7 @@ def evaluate_at(loop: Loop, purge_fraction: float, conversion: float | None = No
         return _failed(loop, info, exc.status, str(exc), t0)
 
 
-def _curve(loop: Loop, a_best: float, samples, f) -> list[dict]:
+def _curve(loop: Loop, a_best: float, samples, f) -> list[CurvePoint]:
     """TAC against purge fraction from a quarter to four times the optimum.
 
     The points the search evaluated in that range, plus half and twice the optimum.
@@ -213,18 +244,15 @@ def _curve(loop: Loop, a_best: float, samples, f) -> list[dict]:
     for a in (a_best / 2.0, a_best * 2.0, lo, hi):
         if loop.purge_fraction_min <= a <= loop.purge_fraction_max and a not in points:
             points[a] = f(a)
-    return [{"purge_fraction": float(a), "tac_per_year": float(v)}
-            for a, v in sorted(points.items()) if math.isfinite(v)]
+    return [CurvePoint(float(a), float(v)) for a, v in sorted(points.items())
+            if math.isfinite(v)]
 
 
-def _off_optimum(loop: Loop, a_best: float, tac_best: float, f) -> dict:
+def _off_optimum(loop: Loop, a_best: float, tac_best: float, f) -> OffOptimum:
     """Cost of running off the optimum: TAC at half and twice a*, and the 1 % band."""
     lo, hi = loop.purge_fraction_min, loop.purge_fraction_max
-    out = {"tac_half_purge_per_year": None, "tac_double_purge_per_year": None}
-    if a_best / 2 >= lo:
-        out["tac_half_purge_per_year"] = f(a_best / 2)
-    if a_best * 2 <= hi:
-        out["tac_double_purge_per_year"] = f(a_best * 2)
+    half = f(a_best / 2) if a_best / 2 >= lo else None
+    double = f(a_best * 2) if a_best * 2 <= hi else None
     target = tac_best + 0.01 * abs(tac_best)
 
     def g(a):
@@ -237,8 +265,7 @@ def _off_optimum(loop: Loop, a_best: float, tac_best: float, f) -> dict:
             band.append(edge)
         else:
             band.append(brentq(g, min(edge, a_best), max(edge, a_best), rtol=1e-4))
-    out["band_1pct_purge_fraction"] = band
-    return out
+    return OffOptimum(half, double, (float(band[0]), float(band[1])))
 
 
 def _prechecks(loop: Loop) -> str:

@@ -45,7 +45,7 @@ def alternative_record(name: str, loop: Loop, opt: Optimum, choices: dict | None
            "feasible": opt.feasible, "status": opt.status.value, "message": opt.message,
            "solver": {"name": opt.solver.name, "status": opt.solver.status,
                       "solves": opt.solver.solves, "seconds": opt.solver.seconds,
-                      "method": opt.solver.method}}
+                      "method": opt.solver.method, "route": opt.solver.route}}
     s = opt.state
     if s is None:
         rec.update({k: None for k in ("purge_fraction", "inert_fraction_reactor_inlet",
@@ -75,8 +75,9 @@ def alternative_record(name: str, loop: Loop, opt: Optimum, choices: dict | None
         "quantities": dict(s.quantities),
         "balance_error": s.balance_error,
         "binding_constraints": list(opt.binding_constraints),
-        "curve": list(opt.curve),
-        "off_optimum": dict(opt.off_optimum),
+        "curve": [dataclasses.asdict(point) for point in opt.curve],
+        "off_optimum": (dataclasses.asdict(opt.off_optimum)
+                        if opt.off_optimum is not None else {}),
     })
     return _clean(rec)
 

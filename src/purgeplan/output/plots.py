@@ -29,8 +29,8 @@ def plot_cost_curves(path: str | Path, study: StudyResult) -> Path:
         curve = alt.optimum.curve
         if not curve:
             continue
-        x = [p["purge_fraction"] for p in curve]
-        y = [p["tac_per_year"] / 1e6 for p in curve]
+        x = [p.purge_fraction for p in curve]
+        y = [p.tac_per_year / 1e6 for p in curve]
         (line,) = ax.plot(x, y, label=f"{alt.rank}. {alt.name}")
         s = alt.optimum.state
         ax.plot([s.purge_fraction], [s.tac_per_year / 1e6], "o", color=line.get_color())

@@ -726,8 +726,8 @@ def _curves_sheet(ws: Worksheet, study: StudyResult, refs: _Refs) -> None:
         _header(ws, row, ["Purge fraction [-]", f"TAC [{cur}/year]"])
         first = row + 1
         for k, point in enumerate(curve):
-            _number(ws, first + k, 1, point["purge_fraction"], FMT_FRACTION)
-            _number(ws, first + k, 2, point["tac_per_year"], FMT_MONEY)
+            _number(ws, first + k, 1, point.purge_fraction, FMT_FRACTION)
+            _number(ws, first + k, 2, point.tac_per_year, FMT_MONEY)
         last = first + len(curve) - 1
         opt_row = last + 2
         s = alt.optimum.state
@@ -748,8 +748,8 @@ def _curve_chart(ws, number: int, first: int, last: int, opt_row: int, curve, cu
     chart.x_axis.title = "Purge fraction [-] (log scale)"
     chart.y_axis.title = f"TAC [{cur}/year]"
     chart.x_axis.scaling.logBase = 10
-    xs = [p["purge_fraction"] for p in curve]
-    ys = [p["tac_per_year"] for p in curve]
+    xs = [p.purge_fraction for p in curve]
+    ys = [p.tac_per_year for p in curve]
     chart.x_axis.scaling.min, chart.x_axis.scaling.max = min(xs), max(xs)
     pad = 0.05 * (max(ys) - min(ys)) or 0.001 * abs(max(ys)) or 1.0
     chart.y_axis.scaling.min, chart.y_axis.scaling.max = min(ys) - pad, max(ys) + pad
@@ -889,17 +889,17 @@ def _off_optimum_table(ws: Worksheet, row: int, study: StudyResult, refs: _Refs)
             row += 1
             continue
         s = alt.optimum.state
-        off = alt.optimum.off_optimum or {}
+        off = alt.optimum.off_optimum
         _number(ws, row, 3, s.purge_fraction, FMT_FRACTION)
         _number(ws, row, 4, s.tac_per_year, FMT_MONEY)
-        for col, key in ((5, "tac_half_purge_per_year"), (7, "tac_double_purge_per_year")):
-            v = off.get(key)
+        sides = (off.tac_half_purge_per_year, off.tac_double_purge_per_year) if off else (None,) * 2
+        for col, v in zip((5, 7), sides, strict=True):
             _number(ws, row, col, v, FMT_MONEY)
             extra = v - s.tac_per_year if v is not None and math.isfinite(v) else None
             _number(ws, row, col + 1, extra, FMT_MONEY)
-        band = off.get("band_1pct_purge_fraction") or [None, None]
+        band = off.band_1pct_purge_fraction if off else (None, None)
         _number(ws, row, 9, band[0], FMT_FRACTION)
-        _number(ws, row, 10, band[1] if len(band) > 1 else None, FMT_FRACTION)
+        _number(ws, row, 10, band[1], FMT_FRACTION)
         row += 1
     _text(ws, row, 1, "n/a: outside the allowed purge range, or no steady state there. The 1 % "
                       "band is the range of purge fractions within 1 % of the lowest TAC.")
