@@ -447,10 +447,8 @@ def test_evaluate_writes_the_same_shape_with_one_entry(tmp_path):
     assert rec["purge_fraction"] == pytest.approx(0.05, rel=1e-12)
 
 
-INFEASIBLE = edited(
-    "ammonia",
-    ("max_inert_fraction_reactor_inlet = 0.25", "max_inert_fraction_reactor_inlet = 0.005"),
-) + """
+#: The ammonia demo reduced to its two make-up grades.
+TWO_GRADES = """
 [[alternatives]]
 name = "standard grade"
 choices = { makeup_grade = "standard" }
@@ -459,6 +457,11 @@ choices = { makeup_grade = "standard" }
 name = "purified grade"
 choices = { makeup_grade = "purified" }
 """
+
+INFEASIBLE = edited(
+    "ammonia",
+    ("max_inert_fraction_reactor_inlet = 0.25", "max_inert_fraction_reactor_inlet = 0.005"),
+) + TWO_GRADES
 
 
 def test_infeasible_alternative_gives_exit_3_and_the_reason(tmp_path):
@@ -488,15 +491,7 @@ def test_infeasible_alternative_gives_exit_3_and_the_reason(tmp_path):
 def test_study_ends_with_the_caution_and_writes_the_records(tmp_path, capsys):
     """Two alternatives of the ammonia demo: workbook, JSON and the caution on stderr."""
     case = tmp_path / "case.toml"
-    case.write_text(TEXT["ammonia"] + """
-[[alternatives]]
-name = "standard grade"
-choices = { makeup_grade = "standard" }
-
-[[alternatives]]
-name = "purified grade"
-choices = { makeup_grade = "purified" }
-""")
+    case.write_text(TEXT["ammonia"] + TWO_GRADES)
     out, target = tmp_path / "study.xlsx", tmp_path / "study.json"
     assert main(["study", str(case), "-o", str(out), "--json", str(target), "--quiet"]) == 0
     captured = capsys.readouterr()

@@ -27,7 +27,6 @@ if TYPE_CHECKING:
     from .case import Case, ComponentSpec, ReactionSpec
 
 
-
 def key_part(part: Any) -> str:
     """One key of a path, quoted when it is not a plain name (so messages stay one line)."""
     text = str(part)
