@@ -144,5 +144,49 @@ reactions = [{usual}]
     code = main(["optimize", str(path)])
     out = capsys.readouterr().out
     assert code == 3
-    assert "INFEASIBLE: no physical steady state" in out
+    assert "INFEASIBLE: at any purge fraction up to" in out
+    assert "no physical steady state" in out
     assert "conversion=usual" in out and out.count("\n") >= 3
+
+
+# -- the reason and likely cause of no steady state; evaluate with a limit not met -------
+
+def _demo(*edits: tuple[str, str]):
+    text = purgeplan.cli.data_file("cases", "ammonia_demo.toml").read_text()
+    for old, new in edits:
+        assert old in text
+        text = text.replace(old, new)
+    case = purgeplan.parse_case_text(text)
+    name, _, alt = next(a for a in purgeplan.expand_alternatives(case)
+                        if a[0] == "makeup_grade=standard, purge_destination=fuel, recovery=none")
+    return build_loop(alt, name)
+
+
+def test_reactor_temperature_in_kelvin_is_named_as_the_likely_cause():
+    """The demo's 470 degC written as 743 (470 + 273.15, a temperature in kelvin): the
+    equilibrium conversion of N2 is then below what the loop needs at any purge fraction,
+    and the message says so, with the hint on the unit."""
+    opt = optimise(_demo(("temperature_c = 470", "temperature_c = 743")))
+    assert opt.status is Status.INFEASIBLE
+    assert "allows a per-pass conversion of N2 of only" in opt.message
+    assert "743 degC" in opt.message and "is it in kelvin?" in opt.message
+    # check and optimize use the same words: the reason at the case's purge fraction
+    at = purgeplan.solve.evaluate_at(_demo(("temperature_c = 470", "temperature_c = 743")),
+                                     0.03)
+    assert at.status is Status.INFEASIBLE and at.state is None
+    assert "allows a per-pass conversion of N2 of only" in at.message
+
+
+def test_evaluate_reports_the_state_and_the_limit_not_met():
+    """At a purge fraction of 0.001 the demo's loop carries far more than 25 % inerts: the
+    state and its costs are reported, the result is infeasible and names the limit."""
+    loop = _demo()
+    at = purgeplan.solve.evaluate_at(loop, 0.001)
+    assert at.status is Status.INFEASIBLE and not at.feasible
+    assert at.state is not None and at.state.tac_per_year > 0
+    assert at.state.inert_fraction_reactor_inlet > 0.25
+    assert "max_inert_fraction_reactor_inlet" in at.binding_constraints
+    assert "the inert limit at the reactor inlet (0.25)" in at.message
+    assert "cannot be met at the purge fraction 0.001" in at.message
+    ok = purgeplan.solve.evaluate_at(loop, 0.03)
+    assert ok.status is Status.OPTIMAL and ok.binding_constraints == []

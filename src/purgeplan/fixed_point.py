@@ -16,7 +16,7 @@ from dataclasses import dataclass
 
 from . import coefficients
 from .errors import NoSteadyStateError
-from .loop import Loop
+from .loop import KELVIN, Loop
 
 #: A linear solve at fixed conversions and recycle work: flows, extents and
 #: source flows, or None when the solver proves the point infeasible.
@@ -121,6 +121,7 @@ def converge(loop: Loop, solve: LinearSolve, conversion: Mapping[int, float],
     work = work_kj_kmol
     history: dict[int, list] = {}
     physical_x = None
+    too_low: dict[int, float] = {}  # largest conversion seen with no physical steady state
     for iteration in range(1, max_iterations + 1):
         solved = solve(x, work)
         if solved is None:
@@ -129,6 +130,9 @@ def converge(loop: Loop, solve: LinearSolve, conversion: Mapping[int, float],
         if _negative(flows):
             if physical_x is None:
                 raise NoSteadyStateError(_unphysical(flows))
+            for i in x:
+                if x[i] < physical_x[i]:
+                    too_low[i] = max(too_low.get(i, 0.0), x[i])
             # an overshooting iterate: step back towards the last physical one
             x = {i: 0.5 * (x[i] + physical_x[i]) for i in x}
             history.clear()
@@ -145,6 +149,7 @@ def converge(loop: Loop, solve: LinearSolve, conversion: Mapping[int, float],
             r = loop.reactions[i]
             if r.per_pass == "equilibrium":
                 residual = r.approach_to_equilibrium * xe - x[i]
+                _check_conversion_suffices(loop, i, x[i], residual, too_low.get(i))
                 change = max(change, abs(residual))
                 new_x[i] = secant_step(history.setdefault(i, []), x[i], residual,
                                        (slopes or {}).get(i))
@@ -157,6 +162,35 @@ def converge(loop: Loop, solve: LinearSolve, conversion: Mapping[int, float],
         x, work = new_x, new_work
     raise NoSteadyStateError("the per-pass conversion did not converge in "
                              f"{max_iterations} fixed-point steps")
+
+
+#: Relative width below which the gap between the smallest per-pass conversion with a
+#: physical steady state and the largest without one counts as closed [-].
+SINGULAR_GAP = 0.02
+
+
+def _check_conversion_suffices(loop: Loop, i: int, x: float, residual: float,
+                               too_low: float | None) -> None:
+    """Raise if equilibrium allows less conversion than the loop needs at this design.
+
+    The loop makes its product only above a smallest per-pass conversion (below
+    it the recycle would have to be infinite).  When the equilibrium target
+    lies below the conversion tried (residual < 0) and conversions just below
+    it give no physical steady state, there is no steady state at all.
+    """
+    if too_low is None or residual >= 0.0 or x - too_low > SINGULAR_GAP * x:
+        return
+    r = loop.reactions[i]
+    where = f"at {loop.reactor_temperature_k - KELVIN:g} degC and {loop.pressure_bar:g} bar"
+    target = x + residual
+    if target <= 0.0:
+        raise NoSteadyStateError(
+            f"the reactor inlet is already at or beyond the equilibrium of '{r.name}' {where} "
+            "(the recycle returns more product than equilibrium allows): no conversion is left")
+    raise NoSteadyStateError(
+        f"the equilibrium of '{r.name}' allows a per-pass conversion of {r.key_reactant} of "
+        f"only {target:.3g} at the reactor inlet {where}, below the {x:.3g} the loop needs "
+        "to make its product")
 
 
 def _check_below_equilibrium(loop: Loop, x: Mapping[int, float],

@@ -31,9 +31,7 @@ from . import coefficients, costs, limits
 from .engine import engine_for
 from .errors import NoSteadyStateError, SolverFailure, Status
 from .fixed_point import converge, initial_conversions
-from .highs_adapter import PersistentLP
 from .loop import Loop
-from .model import build_model
 from .results import LoopState, costing, make_state
 
 ROUTE_DIRECT = "direct linear solve"
@@ -83,9 +81,13 @@ class LoopLP:
         self.sizes: dict[str, float] = {}
         self.direct_solves = 0
         self.solver_options = solver_options
-        self.lp: PersistentLP | None = None
+        self.lp = None
         self.model = None
         if self.use_highs:
+            # Pyomo and HiGHS are imported only by the loops that need them
+            from .highs_adapter import PersistentLP
+            from .model import build_model
+
             self.model = build_model(loop)
             self.lp = PersistentLP(self.model, solver_options, time_limit_s)
         self.restart(time_limit_s)

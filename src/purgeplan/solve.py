@@ -20,14 +20,12 @@ import math
 import time
 from dataclasses import dataclass
 
-import pyomo.environ as pyo
 from scipy.optimize import brentq
 
 from . import limits
 from .engine import steady_state
 from .errors import InfeasibleError, NoSteadyStateError, SolverFailure, Status
-from .loop import Loop
-from .model import build_model
+from .loop import KELVIN, Loop
 from .reduced_space import ROUTE_DIRECT, LoopLP
 from .results import LoopState, with_balances
 from .search import scan_and_refine
@@ -167,7 +165,7 @@ def optimise(loop: Loop, *, scan_points: int = SCAN_POINTS, xtol_rel: float = 1e
                                              loop.purge_fraction_max, scan_points, xtol_rel,
                                              margin)
         if a_best is None:
-            raise InfeasibleError(_diagnose(loop, solver))
+            raise InfeasibleError(_diagnose(loop, solver)[0])
         x_best = None
         if loop.sized_reaction is not None:
             if a_best not in inner:
@@ -213,22 +211,31 @@ def _objective(loop: Loop, solver: LoopLP, xtol_rel: float):
 
 def evaluate_at(loop: Loop, purge_fraction: float, conversion: float | None = None,
                 solver_options: dict | None = None, route: str = "auto") -> Optimum:
-    """Steady state and costs at a given purge fraction (the source blend optimised)."""
+    """Steady state and costs at a given purge fraction (the source blend optimised).
+
+    Where the loop has a steady state it is reported with its costs, even
+    when a limit is not met; the result is then INFEASIBLE, its message names
+    the limits not met and ``binding_constraints`` lists them.  Without a
+    steady state the result is INFEASIBLE with the reason and no state.
+    """
     t0 = time.perf_counter()
     info = SolverInfo(method=f"LP at the fixed purge fraction {purge_fraction:g}")
     try:
         solver = LoopLP(loop, solver_options=solver_options, route=route)
         state = solver.evaluate(purge_fraction, conversion)
+        message, status = "evaluated", Status.OPTIMAL
+        if state is None:
+            message, state = _diagnose(loop, solver, purge_fraction)
+            status = Status.INFEASIBLE
         info.solves = solver.solves
         info.seconds = time.perf_counter() - t0
         info.route, info.name = solver.route, _solver_name(solver)
+        info.status = status.value
         if state is None:
-            raise InfeasibleError(_diagnose(loop, solver, purge_fraction))
+            return Optimum(loop.name, False, status, message, None, [], [], info)
         state = with_balances(loop, state)
-        return Optimum(loop.name, True, Status.OPTIMAL, "evaluated", state,
+        return Optimum(loop.name, status is Status.OPTIMAL, status, message, state,
                        limits.binding(solver.limits, state.quantities), [], info)
-    except InfeasibleError as exc:
-        return _failed(loop, info, Status.INFEASIBLE, str(exc), t0)
     except SolverFailure as exc:
         return _failed(loop, info, exc.status, str(exc), t0)
 
@@ -279,20 +286,27 @@ def _prechecks(loop: Loop) -> str:
     return ""
 
 
-def _diagnose(loop: Loop, solver: LoopLP, purge_fraction: float | None = None) -> str:
-    """Which limit makes every purge fraction infeasible, with the figures."""
+def _diagnose(loop: Loop, solver: LoopLP,
+              purge_fraction: float | None = None) -> tuple[str, LoopState | None]:
+    """Why a purge fraction (or every one) is infeasible, with the figures.
+
+    Returns the reason and the state with the limits relaxed (None without a
+    steady state).
+    """
     a = loop.purge_fraction_max if purge_fraction is None else purge_fraction
     where = (f"at any purge fraction up to {a:g}" if purge_fraction is None
              else f"at the purge fraction {a:g}")
     state = solver.evaluate(a, enforce_limits=False)
     if state is None:
-        if solver.reasons:
-            return next(iter(solver.reasons.values()))
-        try:
-            steady_state(loop, a)
-        except NoSteadyStateError as exc:
-            return str(exc)
-        return f"the loop balances cannot be met {where}"
+        reason = solver.reasons.get((a, None)) or next(iter(solver.reasons.values()), "")
+        if not reason:
+            try:
+                steady_state(loop, a)
+                reason = f"the loop balances cannot be met {where}"
+            except NoSteadyStateError as exc:
+                reason = str(exc)
+        cause = likely_cause(loop)
+        return f"{where}: {reason}" + (f"; likely cause: {cause}" if cause else ""), None
     q = state.quantities
     broken = limits.violated(solver.state_limits, q)
     supply = [lim for lim in broken if lim.name.startswith("supply_limit_kmol_h:")]
@@ -307,7 +321,34 @@ def _diagnose(loop: Loop, solver: LoopLP, purge_fraction: float | None = None) -
                            f"the sources offer {offered:.6g} kmol/h")
         else:
             reasons += [f"{limits.describe(lim, q)} cannot be met {where}" for lim in supply]
-    return "; ".join(reasons) or f"the limits cannot all be met together {where}"
+    return "; ".join(reasons) or f"the limits cannot all be met together {where}", state
+
+
+#: Converters of synthesis loops run between about 200 and 550 degC (ammonia 400 to 500,
+#: methanol 220 to 280; common practice): hotter suggests a temperature in kelvin.
+HOTTEST_USUAL_REACTOR_C = 600.0
+
+
+def likely_cause(loop: Loop) -> str:
+    """The likely cause of a loop with no steady state, where one can be named, or "".
+
+    A reactant that no source carries and no reaction makes; or a reactor
+    far hotter than synthesis converters run (a temperature in kelvin where
+    degrees Celsius are meant).
+    """
+    fed = {c for s in loop.sources for c, y in s.composition.items() if y > 0.0}
+    made = {c for r in loop.reactions for c, nu in r.stoichiometry.items() if nu > 0.0}
+    for r in loop.reactions:
+        missing = sorted(c for c, nu in r.stoichiometry.items()
+                         if nu < 0.0 and c not in fed | made)
+        if missing:
+            return (f"no source carries {', '.join(missing)}, a reactant of '{r.name}', and "
+                    "no reaction makes it")
+    t_c = loop.reactor_temperature_k - KELVIN
+    if t_c > HOTTEST_USUAL_REACTOR_C:
+        return (f"reactor.temperature_c = {t_c:g} is hotter than synthesis converters run "
+                "(about 200 to 550 degC); is it in kelvin? The key takes degrees Celsius")
+    return ""
 
 
 def solve_exact_with(loop: Loop, solver_name: str = "scip_direct", **options):
@@ -317,6 +358,10 @@ def solve_exact_with(loop: Loop, solver_name: str = "scip_direct", **options):
     The recycle work and volume coefficients are taken converged from the
     reduced-space solution at the same alternative's optimum.
     """
+    import pyomo.environ as pyo
+
+    from .model import build_model
+
     opt = optimise(loop)
     if not opt.feasible:
         raise InfeasibleError(opt.message)
