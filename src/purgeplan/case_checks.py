@@ -47,6 +47,7 @@ def check_property_data(case: Case) -> None:
         _check_gillespie_beattie(path, spec)
         _check_fugacity(path, spec, t_reactor, case.loop.pressure_bar)
     condensate_vapour_ratio(case, data)
+    letdown_release(case, data)
 
 
 # ---------------------------------------------------------------------------
@@ -210,3 +211,44 @@ def condensate_vapour_ratio(case: Case, data: Mapping[str, ComponentData]
     except (ArithmeticError, ValueError) as exc:
         raise CaseError("separator.temperature_c", str(exc)) from None
     return condensing, ratio
+
+
+def _stays_liquid(d: ComponentData, temperature_k: float, pressure_bar: float) -> bool:
+    """Whether a component is a liquid at separator temperature and let-down pressure.
+
+    Below its critical temperature with a vapour pressure under the let-down
+    pressure; a component without vapour-pressure data counts as a dissolved gas.
+    """
+    coefficients = d.vapour_pressure_coefficients
+    if coefficients is None or temperature_k >= coefficients[1]:
+        return False
+    try:
+        return d.vapour_pressure_bar(temperature_k) < pressure_bar
+    except (ArithmeticError, ValueError):
+        return False
+
+
+def letdown_release(case: Case, data: Mapping[str, ComponentData]) -> dict[str, float] | None:
+    """Fraction of each component of the separator liquid released as let-down gas [-].
+
+    None without a let-down.  The dissolved gases (components that would
+    boil at separator temperature and let-down pressure) are released by
+    Henry's law (:func:`purgeplan.physics.separation.dissolved_gas_released_fraction`);
+    the product and the other liquids stay liquid.  The product must be a
+    liquid at let-down pressure.
+    """
+    p_ld = case.separator.letdown_pressure_bar
+    if p_ld is None:
+        return None
+    t_sep = case.separator.temperature_c + KELVIN
+    product = case.loop.product
+    d = data[product]
+    if d.vapour_pressure_coefficients is not None and not _stays_liquid(d, t_sep, p_ld):
+        raise CaseError("separator.letdown_pressure_bar",
+                        f"{p_ld:g} bar is below the vapour pressure of the product {product!r} "
+                        f"at separator temperature: the product would flash; let down to a "
+                        "higher pressure")
+    low = case.loop.pressure_bar - case.loop.pressure_drop_bar
+    released = separation.dissolved_gas_released_fraction(p_ld, low)
+    return {c: (0.0 if c == product or _stays_liquid(data[c], t_sep, p_ld) else released)
+            for c in case.components}

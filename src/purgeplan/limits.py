@@ -42,6 +42,10 @@ class Limit:
     label : str
         The limit in plain words, for people.
     unit : str
+    relaxed : bool
+        Whether the limit is relaxed while the inner fixed point still moves
+        the per-pass conversion (a ratio the blend holds is not: without it
+        the blend has no sense to start from).
     """
 
     name: str
@@ -52,6 +56,7 @@ class Limit:
     label: str
     unit: str = "-"
     per: str = ""
+    relaxed: bool = True
 
 
 def loop_limits(loop: Loop) -> tuple[Limit, ...]:
@@ -65,6 +70,14 @@ def loop_limits(loop: Loop) -> tuple[Limit, ...]:
         out.append(Limit("max_recycle_power_kw", "recycle_compressor_power_kw",
                          loop.max_recycle_power_kw, "max", "state",
                          "the recycle compressor power limit", "kW"))
+    for r in loop.ratio_limits:
+        form = {"quantity": f"inlet_ratio_numerator:{r.name}",
+                "per": f"inlet_ratio_denominator:{r.name}"}
+        for sense, bound in (("min", r.min_ratio), ("max", r.max_ratio)):
+            if bound is not None:
+                out.append(Limit(f"inlet_ratio_{sense}:{r.name}", bound=bound, sense=sense,
+                                 kind="state", label=f"the {sense}imum reactor-inlet ratio "
+                                 f"{r.name!r}", relaxed=False, **form))
     out += [Limit(f"supply_limit_kmol_h:{s.name}", f"source_kmol_h:{s.name}",
                   s.supply_limit_kmol_h, "max", "state", f"the supply limit of '{s.name}'",
                   "kmol/h") for s in loop.sources if s.supply_limit_kmol_h is not None]

@@ -18,7 +18,7 @@ from __future__ import annotations
 import logging
 import math
 import time
-from dataclasses import dataclass
+from dataclasses import dataclass, field
 
 from scipy.optimize import brentq
 
@@ -26,6 +26,7 @@ from . import limits
 from .engine import steady_state
 from .errors import InfeasibleError, NoSteadyStateError, SolverFailure, Status
 from .loop import KELVIN, Loop
+from .operations import time_to_inert_limit
 from .reduced_space import ROUTE_DIRECT, LoopLP
 from .results import LoopState, with_balances
 from .search import scan_and_refine
@@ -88,6 +89,9 @@ class Optimum:
     curve: list[CurvePoint]
     solver: SolverInfo
     off_optimum: OffOptimum | None = None
+    #: Hours from the optimum to the inert limit, "purge_closed" and "recovery_down"
+    #: (see :func:`purgeplan.operations.time_to_inert_limit`); empty when infeasible.
+    time_to_inert_limit_h: dict[str, float | None] = field(default_factory=dict)
 
 
 def _failed(loop: Loop, info: SolverInfo, status: Status, message: str, t0: float) -> Optimum:
@@ -185,7 +189,8 @@ def optimise(loop: Loop, *, scan_points: int = SCAN_POINTS, xtol_rel: float = 1e
         log.debug("%s: optimum at purge fraction %.6g after %d solves in %.3f s", loop.name,
                   state.purge_fraction, info.solves, info.seconds)
         return Optimum(loop.name, True, Status.OPTIMAL, "optimal", state,
-                       limits.binding(solver.limits, state.quantities), curve, info, off)
+                       limits.binding(solver.limits, state.quantities), curve, info, off,
+                       time_to_inert_limit(loop, state))
     except InfeasibleError as exc:
         return _failed(loop, info, Status.INFEASIBLE, str(exc), t0)
     except SolverFailure as exc:

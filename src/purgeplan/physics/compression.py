@@ -50,3 +50,52 @@ def isentropic_work_kj_kmol(inlet_temperature_k: float, pressure_ratio: float,
 def shaft_power_kw(flow_kmol_h: float, work_kj_kmol: float, efficiency: float) -> float:
     """Shaft power [kW] from a molar flow [kmol/h], isentropic work [kJ/kmol] and efficiency [-]."""
     return flow_kmol_h * work_kj_kmol / 3600.0 / efficiency
+
+
+def joining_stage(supply_pressure_bar: float, discharge_pressure_bar: float, stages: int,
+                  return_pressure_bar: float) -> int:
+    """The stage of a multistage compressor a side stream at its pressure joins [-].
+
+    Stages have equal pressure ratios r = (P_discharge / P_supply)^(1/N), so
+    stage k (0 for the first) takes suction at P_supply r^k.  The stream joins
+    the last stage whose suction is at or below its pressure (common
+    practice: a side stream enters at the suction that suits it; any
+    pressure above that suction is let down across the inlet valve).
+    """
+    if return_pressure_bar < supply_pressure_bar:
+        raise ValueError(f"return pressure {return_pressure_bar:.4g} bar is below the "
+                         f"compressor suction {supply_pressure_bar:.4g} bar")
+    r = (discharge_pressure_bar / supply_pressure_bar) ** (1.0 / stages)
+    k = 0
+    while k + 1 < stages and supply_pressure_bar * r ** (k + 1) <= return_pressure_bar * (1 + 1e-12):
+        k += 1
+    return k
+
+
+def side_stream_work_kj_kmol(inlet_temperature_k: float, supply_pressure_bar: float,
+                             discharge_pressure_bar: float, stages: int,
+                             return_pressure_bar: float, heat_capacity_ratio: float) -> float:
+    """Isentropic work per kmol of a side stream compressed in the stages from where it joins.
+
+    The stream joins at :func:`joining_stage` k and passes the remaining
+    N - k intercooled stages, each of ratio (P_discharge / P_supply)^(1/N)
+    [kJ/kmol].  At a return pressure at or above the last stage's suction it
+    passes that stage only.
+    """
+    if return_pressure_bar >= discharge_pressure_bar:
+        return 0.0
+    k = joining_stage(supply_pressure_bar, discharge_pressure_bar, stages, return_pressure_bar)
+    r = (discharge_pressure_bar / supply_pressure_bar) ** (1.0 / stages)
+    left = stages - k
+    return isentropic_work_kj_kmol(inlet_temperature_k, r ** left, heat_capacity_ratio, left)
+
+
+def pump_work_kj_kmol(molar_mass_kg_kmol: float, density_kg_m3: float,
+                      pressure_rise_bar: float) -> float:
+    """Reversible work of pumping an incompressible liquid, W = v dP [kJ/kmol].
+
+    v = M / rho [m3/kmol] and dP in kPa (100 kPa per bar); shaft power is this
+    divided by the pump efficiency (common practice: the reversible work of
+    a liquid of constant density).
+    """
+    return molar_mass_kg_kmol / density_kg_m3 * max(pressure_rise_bar, 0.0) * 100.0
