@@ -15,6 +15,9 @@ compressor_capital = { reference_cost = 6.0e6, reference_size = 10000, exponent 
 reactor_capital = { reference_cost = 8.0e6, reference_size = 60, exponent = 0.65 }
 """
 
+#: On the make-up basis a product price is required (case validation refuses 0).
+MAKEUP_BASIS_PRODUCT_PRICE = "product_price_per_t = 300.0\n"
+
 
 def inline(table: dict) -> str:
     """A TOML inline table; floats keep their full repr, strings are quoted."""
@@ -81,6 +84,9 @@ recovery = "unit"
 return_fraction = {inline(recovery)}
 capital = {{ reference_cost = 3.0e6, reference_size = 500 }}
 """
+    if basis == "makeup":
+        return text + ECONOMICS.replace("[economics]\n",
+                                        "[economics]\n" + MAKEUP_BASIS_PRODUCT_PRICE)
     return text + ECONOMICS
 
 

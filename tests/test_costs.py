@@ -10,7 +10,7 @@ from __future__ import annotations
 import math
 
 import pytest
-from conftest import case_toml, loop_from_text
+from conftest import MAKEUP_BASIS_PRODUCT_PRICE, case_toml, loop_from_text
 
 from purgeplan import costs
 from purgeplan.engine import steady_state
@@ -45,7 +45,8 @@ def priced_text(*, destination: str = "fuel", basis: str = "makeup", recovery=No
                 extra_economics: str = PRICES, **kwargs) -> str:
     text = case_toml(makeup=MAKEUP, liquid_fraction=LIQUID, basis=basis,
                      purge_fraction=0.05, recovery=recovery, **kwargs)
-    text = text.replace("[economics]\n", "[economics]\n" + extra_economics)
+    text = text.replace(MAKEUP_BASIS_PRODUCT_PRICE, "").replace(
+        "[economics]\n", "[economics]\n" + extra_economics)
     if recovery is not None:
         text = text.replace("capital = { reference_cost = 3.0e6, reference_size = 500 }",
                             "capital = { reference_cost = 3.0e6, reference_size = 500 }\n"
@@ -195,8 +196,10 @@ def test_capital_at_the_reference_size_is_crf_times_indexed_cost(fuel_loop):
 
 def test_replacement_line_by_hand(fuel_loop):
     got = _evaluate(fuel_loop)
-    # 120 m3 x 30000 per m3 / 4 years = 900,000 per year
-    assert got["catalyst_replacement"] == pytest.approx(900000.0, rel=1e-12)
+    # a 120 m3 charge at 30000 per m3 = 3.6e6 every 4 years, annualised with the capital
+    # recovery factor at 10 % over 4 years, 0.1 x 1.1^4 / (1.1^4 - 1) = 0.146410 / 0.4641
+    # = 0.3154708 (by hand): 1,135,694.9 per year
+    assert got["catalyst_replacement"] == pytest.approx(3.6e6 * 0.146410 / 0.4641, rel=1e-9)
 
 
 def test_recovery_lines_by_hand(recovery_loop):
@@ -271,8 +274,8 @@ def test_state_hourly_lines_and_totals(fuel_loop, fuel_state):
     assert c["purge_fuel_credit"] == pytest.approx(-q["disposal_heat_gj_h"] * 4.0 * 8400.0,
                                                    rel=1e-12)
     assert c["purge_fuel_credit"] < 0.0
-    assert c["catalyst_replacement"] == pytest.approx(q["reactor_volume_m3"] * 30000.0 / 4.0,
-                                                      rel=1e-12)
+    assert c["catalyst_replacement"] == pytest.approx(
+        capital_recovery_factor(0.10, 4.0) * q["reactor_volume_m3"] * 30000.0, rel=1e-12)
     # the total is the sum of the lines; the memo is not one of them
     assert fuel_state.tac_per_year == pytest.approx(sum(c.values()), rel=1e-12)
     assert "lost_reactant_memo" not in c

@@ -13,11 +13,14 @@ from __future__ import annotations
 import dataclasses
 from collections.abc import Mapping
 
-from .case import CapitalItem, Case
-from .case_checks import component_data, condensate_vapour_ratio, formation_terms
+from .case import CapitalItem, Case, stoichiometric_ratio
+from .case_checks import (component_data, condensate_vapour_ratio, formation_terms,
+                          letdown_release)
 from .coefficients import equilibrium_rhs, mixture_heat_capacity_ratio
-from .loop import KELVIN, Capital, Loop, Prices, Reaction, Source
-from .physics import compression
+from .loop import KELVIN, Capital, InletRatio, Loop, Prices, Reaction, Source
+from .physics import compression, economics
+from .physics.equilibrium import ATM_BAR
+from .physics.thermo import R_J_MOL_K
 from .properties import ComponentData
 
 
@@ -47,6 +50,98 @@ def _capital(item: CapitalItem | None) -> Capital | None:
     return Capital(item.reference_cost, item.reference_size, item.exponent)
 
 
+def reactor_pressure_factor(case: Case) -> float:
+    """Vessel pressure factor at loop pressure over that at the capital reference pressure [-].
+
+    1 without a vessel diameter in the case (Turton et al. eq. 7.10, see
+    :func:`purgeplan.physics.economics.vessel_pressure_factor`; gauge pressure
+    from absolute with the standard atmosphere, 1.01325 bar).
+    """
+    r = case.reactor
+    if r.vessel_diameter_m is None:
+        return 1.0
+    factor = economics.vessel_pressure_factor
+    return (factor(case.loop.pressure_bar - ATM_BAR, r.vessel_diameter_m)
+            / factor(r.capital_reference_pressure_bar - ATM_BAR, r.vessel_diameter_m))
+
+
+def _source(case: Case, name: str, data: Mapping[str, ComponentData]) -> Source:
+    """One source with its work per kmol from supply to loop pressure.
+
+    Gas is compressed in the make-up compressor's stages (make-up gas and
+    direct feeds alike), a liquid is pumped (reversible work v dP).
+    """
+    s = case.sources[name]
+    loop_p = case.loop.pressure_bar
+    t = s.temperature_c + KELVIN
+    work = 0.0
+    if loop_p > s.supply_pressure_bar and s.phase == "gas":
+        gamma = mixture_heat_capacity_ratio(s.composition, data, t)
+        work = compression.isentropic_work_kj_kmol(
+            t, loop_p / s.supply_pressure_bar, gamma, case.compression.makeup_stages)
+    elif loop_p > s.supply_pressure_bar:
+        mw = sum(y * data[c].molar_mass_kg_kmol for c, y in s.composition.items())
+        work = compression.pump_work_kj_kmol(mw, s.liquid_density_kg_m3,
+                                             loop_p - s.supply_pressure_bar)
+    return Source(name, {c: s.composition.get(c, 0.0) for c in sorted(case.components)},
+                  s.supply_limit_kmol_h, s.enters, work, s.temperature_c, s.phase)
+
+
+def _recompression(case: Case, sources: list[Source], data: Mapping[str, ComponentData]
+                   ) -> tuple[str, float]:
+    """How the recovery return is recompressed to loop pressure, and its work [kJ/kmol].
+
+    The work is isentropic, with the heat-capacity ratio of the gas the unit
+    returns from the make-up gas's composition (the return's composition
+    from the loop gas varies with the state; the ratio barely does, since the
+    return is mostly the reactant the unit recovers).  Through the make-up
+    compressor, the return joins at the stage whose suction suits it (stage
+    inlets at the temperature of the make-up gas); through a compressor of
+    its own, in ``recompression_stages`` intercooled stages from the recycle
+    compressor's inlet temperature.  ("none", 0) without a return pressure.
+    """
+    rec = case.purge.recovery
+    if rec == "none" or case.recovery_units[rec].return_pressure_bar is None:
+        return "none", 0.0
+    unit = case.recovery_units[rec]
+    loop_p, p_ret = case.loop.pressure_bar, unit.return_pressure_bar
+    makeup = [s for s in sources if s.enters == "makeup"]
+    gas = {c: y * unit.return_fraction.get(c, 0.0) for c, y in makeup[0].composition.items()}
+    if sum(gas.values()) <= 0.0:
+        gas = dict(makeup[0].composition)
+    gas = {c: y for c, y in gas.items() if y > 0.0}
+    if unit.recompression == "makeup_compressor":
+        first = min(makeup, key=lambda s: case.sources[s.name].supply_pressure_bar)
+        t = first.temperature_c + KELVIN
+        gamma = mixture_heat_capacity_ratio(gas, data, t)
+        work = compression.side_stream_work_kj_kmol(
+            t, case.sources[first.name].supply_pressure_bar, loop_p,
+            case.compression.makeup_stages, p_ret, gamma)
+    else:
+        t = case.compression.recycle_inlet_temperature_c + KELVIN
+        gamma = mixture_heat_capacity_ratio(gas, data, t)
+        work = compression.isentropic_work_kj_kmol(t, loop_p / p_ret, gamma,
+                                                   unit.recompression_stages)
+    return unit.recompression, work
+
+
+def _ratio(case: Case, spec) -> InletRatio:
+    return InletRatio(spec.name, dict(spec.numerator), dict(spec.denominator), spec.min_ratio,
+                      spec.max_ratio, stoichiometric_ratio(case, spec))
+
+
+def _inventory_kmol(case: Case) -> float | None:
+    """Loop gas inventory [kmol]; a volume is taken at loop pressure and separator
+    temperature as an ideal gas (n = P V / R T)."""
+    loop = case.loop
+    if loop.gas_inventory_kmol is not None:
+        return loop.gas_inventory_kmol
+    if loop.gas_inventory_m3 is None:
+        return None
+    t = case.separator.temperature_c + KELVIN
+    return loop.pressure_bar * 1e5 * loop.gas_inventory_m3 / (R_J_MOL_K * t) / 1000.0
+
+
 def build_loop(case: Case, name: str = "") -> Loop:
     """Plain loop data from a validated case (one alternative)."""
     data = component_data(case)
@@ -60,17 +155,7 @@ def build_loop(case: Case, name: str = "") -> Loop:
     loop_p = case.loop.pressure_bar
     comp_spec = case.compression
 
-    sources = []
-    for sname in case.active_sources:
-        s = case.sources[sname]
-        work = 0.0
-        if s.enters == "makeup" and loop_p > s.supply_pressure_bar:
-            gamma = mixture_heat_capacity_ratio(s.composition, data, s.temperature_c + KELVIN)
-            work = compression.isentropic_work_kj_kmol(
-                s.temperature_c + KELVIN, loop_p / s.supply_pressure_bar, gamma,
-                comp_spec.makeup_stages)
-        sources.append(Source(sname, {c: s.composition.get(c, 0.0) for c in comps},
-                              s.supply_limit_kmol_h, s.enters, work, s.temperature_c))
+    sources = [_source(case, sname, data) for sname in case.active_sources]
 
     split = case.separator.liquid_fraction
     condensing, ratio = condensate_vapour_ratio(case, data)
@@ -79,11 +164,16 @@ def build_loop(case: Case, name: str = "") -> Loop:
     recovery = None
     recovery_capital = None
     recovery_opex = 0.0
+    unit = None
     if case.purge.recovery != "none":
         unit = case.recovery_units[case.purge.recovery]
         recovery = {c: unit.return_fraction.get(c, 0.0) for c in comps}
         recovery_capital = _capital(unit.capital)
         recovery_opex = unit.operating_cost_per_kmol
+    recompression, recompression_work = _recompression(case, sources, data)
+    export = ({c: unit.export_fraction.get(c, 0.0) for c in comps}
+              if unit is not None and any(x > 0 for x in unit.export_fraction.values()) else None)
+    release = letdown_release(case, data)
 
     econ = case.economics
     prices = Prices(
@@ -97,7 +187,9 @@ def build_loop(case: Case, name: str = "") -> Loop:
         compressor_capital=_capital(econ.compressor_capital),
         reactor_capital=_capital(econ.reactor_capital),
         recovery_capital=recovery_capital, recovery_operating_cost_per_kmol=recovery_opex,
-        source_price_per_kmol={s: case.sources[s].price_per_kmol for s in case.active_sources})
+        source_price_per_kmol={s: case.sources[s].price_per_kmol for s in case.active_sources},
+        recovery_export_price_per_kmol=unit.export_price_per_kmol if export else 0.0,
+        co2_price_per_t=econ.co2_price_per_t, reactor_pressure_factor=reactor_pressure_factor(case))
 
     product = case.loop.product
     mw = data[product].molar_mass_kg_kmol
@@ -110,6 +202,10 @@ def build_loop(case: Case, name: str = "") -> Loop:
                 "purge", "recycle"]
     if recovery is not None:
         streams += ["recovery_return", "recovery_tail_gas"]
+    if export is not None:
+        streams.append("recovery_export")
+    if release is not None:
+        streams += ["letdown_gas", "letdown_liquid"]
     return Loop(
         name=name or case.case.name, components=comps, data=data, inerts=inerts,
         reactions=reactions, sources=tuple(sources), liquid_fraction=liquid,
@@ -131,4 +227,15 @@ def build_loop(case: Case, name: str = "") -> Loop:
         purge_fraction_max=case.loop.purge_fraction_max,
         max_inert_fraction_reactor_inlet=case.loop.max_inert_fraction_reactor_inlet,
         max_recycle_power_kw=case.loop.max_recycle_power_kw, prices=prices,
-        streams=tuple(streams))
+        streams=tuple(streams),
+        fuel_capacity_gj_h=(case.purge.fuel_capacity_gj_h if case.purge.destination == "fuel"
+                            else None),
+        compressor_arrangement=comp_spec.arrangement,
+        recovery_export_fraction=export, recovery_recompression=recompression,
+        recovery_recompression_work_kj_kmol=recompression_work,
+        recovery_return_pressure_bar=unit.return_pressure_bar if unit is not None else None,
+        letdown_release_fraction=release,
+        letdown_pressure_bar=case.separator.letdown_pressure_bar,
+        letdown_destination=case.separator.letdown_destination,
+        ratios=tuple(_ratio(case, r) for r in case.loop.inlet_ratio_limits),
+        gas_inventory_kmol=_inventory_kmol(case), pump_efficiency=comp_spec.pump_efficiency)

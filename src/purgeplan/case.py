@@ -51,6 +51,7 @@ HoursPerYear = _num(gt=0, le=8784)
 RatePerYear = _num(ge=0, lt=1)
 LifeYears = _num(ge=1, le=100)
 CatalystLifeYears = _num(ge=0.01, le=100)
+VesselDiameterM = _num(ge=0.1, le=20)
 Name = Annotated[str, Field(min_length=1, max_length=200)]
 
 MAX_CASE_BYTES = 2_000_000
@@ -105,12 +106,33 @@ class ReactionSpec(_Strict):
 class ReactorSpec(_Strict):
     temperature_c: ReactorTemperatureC
     space_velocity_per_h: SpaceVelocityPerH = 10000.0
+    vessel_diameter_m: VesselDiameterM | None = None
+    capital_reference_pressure_bar: PressureBar | None = None
 
 
 class InletRatio(_Strict):
     numerator: Name
     denominator: Name
     value: Positive
+
+
+class InletRatioLimit(_Strict):
+    """A ratio of two linear forms of the reactor-inlet flows, (sum a_c M_c) / (sum b_c M_c).
+
+    With ``min_ratio`` or ``max_ratio`` it is a limit of the model where the
+    loop has the freedom to hold it (a second make-up source or an
+    adjustment source); otherwise it is reported, with a warning when it
+    departs from ``stoichiometric_ratio`` (by default the ratio of the
+    reactants' consumption in the first reaction that consumes the
+    denominator's components).
+    """
+
+    name: Name
+    numerator: dict[Name, Finite] = Field(min_length=1)
+    denominator: dict[Name, NonNegative] = Field(min_length=1)
+    min_ratio: Positive | None = None
+    max_ratio: Positive | None = None
+    stoichiometric_ratio: Positive | None = None
 
 
 class LoopSpec(_Strict):
@@ -126,11 +148,16 @@ class LoopSpec(_Strict):
     max_inert_fraction_reactor_inlet: OpenFraction | None = None
     max_recycle_power_kw: Positive | None = None
     inlet_ratios: list[InletRatio] = []
+    inlet_ratio_limits: list[InletRatioLimit] = []
+    gas_inventory_kmol: Positive | None = None
+    gas_inventory_m3: Positive | None = None
 
 
 class SeparatorSpec(_Strict):
     temperature_c: TemperatureC
     liquid_fraction: dict[Name, Fraction | Literal["condensation"]]
+    letdown_pressure_bar: PressureBar | None = None
+    letdown_destination: Literal["fuel", "flare"] = "fuel"
 
 
 class SourceSpec(_Strict):
@@ -140,6 +167,8 @@ class SourceSpec(_Strict):
     temperature_c: TemperatureC = 40.0
     supply_limit_kmol_h: Positive | None = None
     enters: Literal["makeup", "reactor_feed"] = "makeup"
+    phase: Literal["gas", "liquid"] = "gas"
+    liquid_density_kg_m3: _num(ge=1, le=30000) | None = None
 
 
 class CompressionSpec(_Strict):
@@ -147,6 +176,8 @@ class CompressionSpec(_Strict):
     makeup_efficiency: OpenFraction = 0.75
     makeup_stages: Annotated[int, Field(ge=1, le=12, strict=True)] = 3
     recycle_inlet_temperature_c: TemperatureC = 35.0
+    pump_efficiency: OpenFraction = 0.65
+    arrangement: Literal["two_machines", "one_casing"] = "two_machines"
 
 
 class CapitalItem(_Strict):
@@ -159,11 +190,17 @@ class RecoveryUnitSpec(_Strict):
     return_fraction: dict[Name, Fraction]
     capital: CapitalItem
     operating_cost_per_kmol: NonNegative = 0.0
+    return_pressure_bar: PressureBar | None = None
+    recompression: Literal["makeup_compressor", "own_compressor"] = "makeup_compressor"
+    recompression_stages: Annotated[int, Field(ge=1, le=12, strict=True)] = 1
+    export_fraction: dict[Name, Fraction] = {}
+    export_price_per_kmol: NonNegative = 0.0
 
 
 class PurgeSpec(_Strict):
     destination: Literal["fuel", "flare"] = "fuel"
     recovery: Name = "none"
+    fuel_capacity_gj_h: Positive | None = None
 
 
 class EconomicsSpec(_Strict):
@@ -176,6 +213,7 @@ class EconomicsSpec(_Strict):
     fuel_price_per_gj: NonNegative = 0.0
     flare_cost_per_kmol: NonNegative = 0.0
     product_price_per_t: NonNegative = 0.0
+    co2_price_per_t: NonNegative | None = None
     compressor_capital: CapitalItem
     reactor_capital: CapitalItem
     catalyst_price_per_m3: NonNegative = 0.0
@@ -238,10 +276,14 @@ def check_case(case: Case) -> None:
     need = _component_check(case)
     _check_reactions(case, need)
     _check_loop(case, need)
+    _check_reactor_vessel(case)
     _check_separator(case, need)
     _check_sources(case, need)
     _check_inlet_ratios(case)
+    _check_inlet_ratio_limits(case, need)
+    _check_letdown_and_inventory(case)
     _check_recovery_and_economics(case, need)
+    _check_recovery_unit_in_use(case)
     _check_options(case)
 
 
@@ -302,6 +344,10 @@ def _check_loop(case: Case, need: _Need) -> None:
         raise CaseError("loop.production_t_d", "required when basis = 'production'")
     if loop.basis == "makeup" and loop.makeup_kmol_h is None:
         raise CaseError("loop.makeup_kmol_h", "required when basis = 'makeup'")
+    if loop.basis == "makeup" and case.economics.product_price_per_t == 0.0:
+        raise CaseError("economics.product_price_per_t",
+                        "required above 0 when loop.basis = 'makeup': at a zero product price "
+                        "the optimiser saves gas by cutting production")
     if not loop.purge_fraction_min < loop.purge_fraction_max:
         raise CaseError("loop.purge_fraction_max",
                         f"{loop.purge_fraction_max} must exceed purge_fraction_min "
@@ -312,6 +358,30 @@ def _check_loop(case: Case, need: _Need) -> None:
     for i, ratio in enumerate(loop.inlet_ratios):
         need(f"loop.inlet_ratios[{i}].numerator", ratio.numerator)
         need(f"loop.inlet_ratios[{i}].denominator", ratio.denominator)
+
+
+#: Highest loop pressure for the vessel pressure factor (Turton et al. eq. 7.10 needs
+#: 850 - 0.6 (P + 1) well above 0, P in barg) [bar abs].
+MAX_VESSEL_PRESSURE_BAR = 1000.0
+
+
+def _check_reactor_vessel(case: Case) -> None:
+    r = case.reactor
+    given = {"vessel_diameter_m": r.vessel_diameter_m,
+             "capital_reference_pressure_bar": r.capital_reference_pressure_bar}
+    for key, other in (("vessel_diameter_m", "capital_reference_pressure_bar"),
+                       ("capital_reference_pressure_bar", "vessel_diameter_m")):
+        if given[key] is not None and given[other] is None:
+            raise CaseError(f"reactor.{other}",
+                            f"required with reactor.{key}: the vessel pressure factor needs "
+                            "the diameter and the pressure the reactor reference cost is for")
+    if r.vessel_diameter_m is None:
+        return
+    for path, p in (("loop.pressure_bar", case.loop.pressure_bar),
+                    ("reactor.capital_reference_pressure_bar", r.capital_reference_pressure_bar)):
+        if p > MAX_VESSEL_PRESSURE_BAR:
+            raise CaseError(path, f"{p:g} bar is above {MAX_VESSEL_PRESSURE_BAR:g} bar, the "
+                            "range kept for the vessel pressure factor (Turton et al. eq. 7.10)")
 
 
 def _check_separator(case: Case, need: _Need) -> None:
@@ -355,6 +425,12 @@ def _check_source(base: str, src: SourceSpec, loop_pressure_bar: float, need: _N
         raise CaseError(f"{base}.supply_pressure_bar",
                         f"{src.supply_pressure_bar} is above the loop pressure "
                         f"{loop_pressure_bar}")
+    if src.phase == "liquid" and src.enters == "makeup":
+        raise CaseError(f"{base}.phase", "a liquid is pumped straight to the reactor: give "
+                        "enters = 'reactor_feed', or phase = 'gas' for make-up gas")
+    if src.phase == "liquid" and src.liquid_density_kg_m3 is None:
+        raise CaseError(f"{base}.liquid_density_kg_m3",
+                        "required when phase = 'liquid' (the pump work is volume x pressure rise)")
 
 
 def _check_inlet_ratios(case: Case) -> None:
@@ -400,6 +476,83 @@ def _check_inlet_ratios(case: Case) -> None:
                                 "is in the loop")
 
 
+def stoichiometric_ratio(case: Case, spec: InletRatioLimit) -> float | None:
+    """The stoichiometric value of an inlet ratio: its forms over a reaction's consumption [-].
+
+    Taken from the first reaction whose consumed reactants give the
+    denominator form a positive value (consumption = -nu of each reactant);
+    ``stoichiometric_ratio`` in the case overrides it.  None when no reaction does.
+    """
+    if spec.stoichiometric_ratio is not None:
+        return spec.stoichiometric_ratio
+    for r in case.reactions:
+        used = {c: -nu for c, nu in r.stoichiometry.items() if nu < 0}
+        den = sum(b * used.get(c, 0.0) for c, b in spec.denominator.items())
+        if den > 0:
+            num = sum(a * used.get(c, 0.0) for c, a in spec.numerator.items())
+            return num / den if num > 0 else None
+    return None
+
+
+def _check_inlet_ratio_limits(case: Case, need: _Need) -> None:
+    names = set()
+    for i, spec in enumerate(case.loop.inlet_ratio_limits):
+        base = f"loop.inlet_ratio_limits[{i}]"
+        if spec.name in names:
+            raise CaseError(f"{base}.name", f"{spec.name!r} is used twice: names must be unique")
+        names.add(spec.name)
+        for end in ("numerator", "denominator"):
+            for c in getattr(spec, end):
+                need(f"{base}.{end}.{_key(c)}", c)
+        if not any(b > 0 for b in spec.denominator.values()):
+            raise CaseError(f"{base}.denominator", "needs at least one coefficient above 0")
+        if (spec.min_ratio is not None and spec.max_ratio is not None
+                and spec.min_ratio > spec.max_ratio):
+            raise CaseError(f"{base}.max_ratio",
+                            f"{spec.max_ratio:g} is below min_ratio {spec.min_ratio:g}")
+        if stoichiometric_ratio(case, spec) is None:
+            raise CaseError(f"{base}.stoichiometric_ratio",
+                            "no reaction's consumption gives this ratio a positive value: "
+                            "give stoichiometric_ratio")
+
+
+def _check_letdown_and_inventory(case: Case) -> None:
+    sep, loop = case.separator, case.loop
+    low = loop.pressure_bar - loop.pressure_drop_bar
+    if sep.letdown_pressure_bar is not None and sep.letdown_pressure_bar >= low:
+        raise CaseError("separator.letdown_pressure_bar",
+                        f"{sep.letdown_pressure_bar:g} must be below the separator pressure "
+                        f"{low:g} bar (pressure_bar less pressure_drop_bar)")
+    if loop.gas_inventory_kmol is not None and loop.gas_inventory_m3 is not None:
+        raise CaseError("loop.gas_inventory_m3",
+                        "give the loop gas inventory once: gas_inventory_kmol or gas_inventory_m3")
+
+
+def _check_recovery_unit_in_use(case: Case) -> None:
+    """The recovery unit of this alternative: its return pressure against the compressors."""
+    rec = case.purge.recovery
+    if rec == "none":
+        return
+    unit, base = case.recovery_units[rec], f"recovery_units.{_key(rec)}"
+    for c, x in unit.export_fraction.items():
+        if x + unit.return_fraction.get(c, 0.0) > 1.0 + 1e-12:
+            raise CaseError(f"{base}.export_fraction.{_key(c)}",
+                            f"{x:g} plus the return fraction {unit.return_fraction.get(c, 0.0):g}"
+                            " exceeds 1")
+    p_ret = unit.return_pressure_bar
+    if p_ret is None:
+        return
+    if p_ret > case.loop.pressure_bar:
+        raise CaseError(f"{base}.return_pressure_bar",
+                        f"{p_ret:g} is above the loop pressure {case.loop.pressure_bar:g}")
+    supply = min((case.sources[s].supply_pressure_bar for s in case.active_sources
+                  if case.sources[s].enters == "makeup"), default=0.0)
+    if unit.recompression == "makeup_compressor" and p_ret < supply:
+        raise CaseError(f"{base}.return_pressure_bar",
+                        f"{p_ret:g} bar is below the make-up compressor's suction ({supply:g} "
+                        "bar): give recompression = 'own_compressor'")
+
+
 def _check_recovery_and_economics(case: Case, need: _Need) -> None:
     rate = case.economics.discount_rate
     if 0.0 < rate < 1e-6:
@@ -413,6 +566,8 @@ def _check_recovery_and_economics(case: Case, need: _Need) -> None:
     for name, unit in case.recovery_units.items():
         for c in unit.return_fraction:
             need(f"recovery_units.{_key(name)}.return_fraction.{_key(c)}", c)
+        for c in unit.export_fraction:
+            need(f"recovery_units.{_key(name)}.export_fraction.{_key(c)}", c)
 
 
 def _check_options(case: Case) -> None:

@@ -14,7 +14,7 @@ from collections.abc import Callable, Mapping
 from dataclasses import dataclass
 
 from .loop import KELVIN, Loop
-from .physics import compression
+from .physics import compression, emissions
 
 
 @dataclass
@@ -91,20 +91,47 @@ def purge_split(v: LoopVariables, loop: Loop):
 
 
 def recovery_split(v: LoopVariables, loop: Loop):
-    """Recovery return Q_c = rho_c P_c to the make-up; tail gas P_c - Q_c."""
+    """Recovery return Q_c = rho_c P_c to the loop, export E_c = e_c P_c; tail gas P_c - Q_c - E_c."""
     if loop.recovery_return_fraction is None:
         return
+    export = loop.recovery_export_fraction
     for c in loop.components:
         rho = loop.recovery_return_fraction[c]
         yield ("return", c), v.flow["recovery_return", c] - rho * v.flow["purge", c]
-        yield ("tail", c), (v.flow["recovery_tail_gas", c] - v.flow["purge", c]
-                            + v.flow["recovery_return", c])
+        tail = v.flow["recovery_tail_gas", c] - v.flow["purge", c] + v.flow["recovery_return", c]
+        if export is not None:
+            yield ("export", c), v.flow["recovery_export", c] - export[c] * v.flow["purge", c]
+            tail = tail + v.flow["recovery_export", c]
+        yield ("tail", c), tail
+
+
+def letdown_split(v: LoopVariables, loop: Loop):
+    """Let-down gas G_c = lambda_c L_c released from the liquid; the liquid delivered L_c - G_c.
+
+    lambda_c from :func:`purgeplan.case_checks.letdown_release` (Henry's law
+    for the dissolved gases; the product stays liquid).
+    """
+    release = loop.letdown_release_fraction
+    if release is None:
+        return
+    for c in loop.components:
+        yield ("gas", c), v.flow["letdown_gas", c] - release[c] * v.flow["liquid_product", c]
+        yield ("liquid", c), (v.flow["letdown_liquid", c] - v.flow["liquid_product", c]
+                              + v.flow["letdown_gas", c])
+
+
+def product_kmol_h(v: LoopVariables, loop: Loop):
+    """Product made: in the liquid, plus any recovered from the purge and exported [kmol/h]."""
+    made = v.flow["liquid_product", loop.product]
+    if "recovery_export" in loop.streams:
+        made = made + v.flow["recovery_export", loop.product]
+    return made
 
 
 def basis(v: LoopVariables, loop: Loop):
     """Fixed production of the product in the liquid, or a fixed make-up rate."""
     if loop.basis == "production":
-        yield "production", v.flow["liquid_product", loop.product] - loop.production_kmol_h
+        yield "production", product_kmol_h(v, loop) - loop.production_kmol_h
     else:
         yield "makeup", sum(v.source[s.name] for s in loop.makeup_sources) - loop.makeup_kmol_h
 
@@ -118,7 +145,7 @@ def inlet_ratio(v: LoopVariables, loop: Loop):
 #: Every equation family of the loop, in the order they are stated.
 EQUATION_FAMILIES: tuple[Callable, ...] = (
     makeup_blend, mixer_balance, reactor_balance, reaction_extent, separator_split,
-    purge_split, recovery_split, basis, inlet_ratio)
+    purge_split, recovery_split, letdown_split, basis, inlet_ratio)
 
 
 # ---------------------------------------------------------------------------
@@ -164,9 +191,88 @@ def disposal_heat_gj_h(v: LoopVariables, loop: Loop):
                for c in loop.components if loop.data[c].lhv_kj_mol > 0.0)
 
 
+def carbon_atoms(loop: Loop, component: str) -> int:
+    """Carbon atoms per molecule of a component [-]."""
+    return dict(loop.data[component].atoms).get("C", 0)
+
+
+def disposal_co2_t_h(v: LoopVariables, loop: Loop):
+    """CO2 from burning or flaring the purge gas leaving the loop, by its carbon [t/h]."""
+    return sum(v.flow[loop.disposal_stream, c] * emissions.co2_t_per_kmol(carbon_atoms(loop, c))
+               for c in loop.components if carbon_atoms(loop, c) > 0)
+
+
+def fuel_sink(heat_gj_h, kmol_h, capacity_gj_h: float, fuel_heat_gj_h=None,
+              kmol_per_gj=None) -> tuple:
+    """Fuel part [GJ/h] and flared part [kmol/h] of the purge gas sent to a fuel sink.
+
+    The sink takes at most ``capacity_gj_h``; the rest goes to flare.  On
+    numbers the fuel part is min(heat, capacity) and the flared part the
+    remaining share of the gas, kmol (1 - fuel / heat).  A linear programme
+    passes its own ``fuel_heat_gj_h`` (a variable held within both bounds
+    by constraints, which the objective drives to the min) and the gas's
+    ``kmol_per_gj`` at the current state; the flared part is then the same
+    expression, kmol - kmol_per_gj fuel.
+    """
+    if fuel_heat_gj_h is None:
+        fuel_heat_gj_h = min(heat_gj_h, capacity_gj_h)
+        kmol_per_gj = kmol_h / heat_gj_h if heat_gj_h > 0.0 else 0.0
+    return fuel_heat_gj_h, kmol_h - kmol_per_gj * fuel_heat_gj_h
+
+
 def product_t_h(v: LoopVariables, loop: Loop):
-    """Product in the liquid [t/h]."""
-    return v.flow["liquid_product", loop.product] * (loop.product_molar_mass / 1000.0)
+    """Product made, in the liquid and any exported from the purge [t/h]."""
+    return product_kmol_h(v, loop) * (loop.product_molar_mass / 1000.0)
+
+
+def recovery_recompression_power_kw(v: LoopVariables, loop: Loop):
+    """Shaft power recompressing the recovery return to loop pressure [kW].
+
+    Isentropic work per kmol from the build (:func:`purgeplan.build._recompression`)
+    over the make-up compressor's efficiency, whichever machine does it.
+    """
+    if loop.recovery_recompression == "none":
+        return 0.0
+    total = sum(v.flow["recovery_return", c] for c in loop.components)
+    return compression.shaft_power_kw(total, loop.recovery_recompression_work_kj_kmol,
+                                      loop.makeup_efficiency)
+
+
+def direct_feed_power_kw(v: LoopVariables, loop: Loop, phase: str):
+    """Shaft power raising the direct feeds of one phase to loop pressure [kW].
+
+    Gas is compressed (make-up compressor efficiency), a liquid pumped (pump efficiency).
+    """
+    eff = loop.makeup_efficiency if phase == "gas" else loop.pump_efficiency
+    return sum(compression.shaft_power_kw(v.source[s.name], s.compression_work_kj_kmol, eff)
+               for s in loop.sources if s.enters == "reactor_feed" and s.phase == phase
+               and s.compression_work_kj_kmol > 0.0)
+
+
+def letdown_kmol_h(v: LoopVariables, loop: Loop):
+    """Gas released at let-down [kmol/h]."""
+    return sum(v.flow["letdown_gas", c] for c in loop.components)
+
+
+def letdown_heat_gj_h(v: LoopVariables, loop: Loop):
+    """Lower heating value carried by the let-down gas [GJ/h]."""
+    return sum(v.flow["letdown_gas", c] * (loop.data[c].lhv_kj_mol / 1000.0)
+               for c in loop.components if loop.data[c].lhv_kj_mol > 0.0)
+
+
+def recovery_export_sold_kmol_h(v: LoopVariables, loop: Loop):
+    """Recovered gas sold out of the loop, the product (counted as product) aside [kmol/h]."""
+    return sum(v.flow["recovery_export", c] for c in loop.components if c != loop.product)
+
+
+def inlet_ratio_forms(v: LoopVariables, loop: Loop) -> dict:
+    """Numerator and denominator forms of every inlet ratio at the reactor feed [kmol/h]."""
+    out = {}
+    for r in loop.ratios:
+        for part, form in (("numerator", r.numerator), ("denominator", r.denominator)):
+            out[f"inlet_ratio_{part}:{r.name}"] = sum(
+                k * v.flow["reactor_feed", c] for c, k in form.items() if k != 0.0)
+    return out
 
 
 def recovery_feed_kmol_h(v: LoopVariables, loop: Loop):
@@ -193,16 +299,36 @@ def stream_conditions(loop: Loop) -> dict[str, tuple[float, float]]:
         "reactor_feed": (p, t_reactor), "reactor_outlet": (p, t_reactor),
         "liquid_product": (low, t_sep), "separator_vapour": (low, t_sep), "purge": (low, t_sep),
         "recycle": (p, loop.recycle_inlet_temperature_k - KELVIN),
-        "recovery_return": (low, t_sep), "recovery_tail_gas": (low, t_sep)}
+        "recovery_return": (loop.recovery_return_pressure_bar or low, t_sep),
+        "recovery_tail_gas": (low, t_sep), "recovery_export": (low, t_sep),
+        "letdown_gas": (loop.letdown_pressure_bar, t_sep),
+        "letdown_liquid": (loop.letdown_pressure_bar, t_sep)}
     return {s: out[s] for s in loop.streams}
 
 
-def quantities(v: LoopVariables, loop: Loop, work_kj_kmol, catalyst_volume_per_feed) -> dict:
+def _unit_quantities(v: LoopVariables, loop: Loop) -> dict:
+    """Quantities of the recovery unit, the direct feeds, the let-down and the inlet ratios."""
+    q = {"recovery_recompression_power_kw": recovery_recompression_power_kw(v, loop),
+         "direct_feed_compression_power_kw": direct_feed_power_kw(v, loop, "gas"),
+         "direct_feed_pumping_power_kw": direct_feed_power_kw(v, loop, "liquid")}
+    if "recovery_export" in loop.streams:
+        q["recovery_export_sold_kmol_h"] = recovery_export_sold_kmol_h(v, loop)
+    if "letdown_gas" in loop.streams:
+        q["letdown_kmol_h"] = letdown_kmol_h(v, loop)
+        q["letdown_heat_gj_h"] = letdown_heat_gj_h(v, loop)
+    q.update(inlet_ratio_forms(v, loop))
+    return q
+
+
+def quantities(v: LoopVariables, loop: Loop, work_kj_kmol, catalyst_volume_per_feed,
+               fuel_split: tuple | None = None) -> dict:
     """Every physical quantity a cost line or a limit refers to, by key.
 
     ``work_kj_kmol`` is the recycle compressor's isentropic work per kmol and
     ``catalyst_volume_per_feed`` the catalyst volume per kmol/h of reactor feed
-    [m3 h/kmol] (numbers or Pyomo parameters).
+    [m3 h/kmol] (numbers or Pyomo parameters).  ``fuel_split`` is a linear
+    programme's (fuel part variable, kmol per GJ) of a fuel sink with a
+    capacity (see :func:`fuel_sink`); None on numbers.
     """
     q = {f"source_kmol_h:{s.name}": v.source[s.name] for s in loop.sources}
     q.update({
@@ -216,6 +342,16 @@ def quantities(v: LoopVariables, loop: Loop, work_kj_kmol, catalyst_volume_per_f
         "disposal_kmol_h": disposal_kmol_h(v, loop),
         "product_t_h": product_t_h(v, loop),
         "recovery_feed_kmol_h": recovery_feed_kmol_h(v, loop),
+        "disposal_co2_t_h": disposal_co2_t_h(v, loop),
     })
+    q.update(_unit_quantities(v, loop))
+    through_makeup = (q["recovery_recompression_power_kw"]
+                      if loop.recovery_recompression == "makeup_compressor" else 0.0)
+    q["makeup_compressor_duty_kw"] = q["makeup_compressor_power_kw"] + through_makeup
+    q["compressor_power_kw"] = q["recycle_compressor_power_kw"] + q["makeup_compressor_duty_kw"]
+    if loop.fuel_capacity_gj_h is not None:
+        q["fuel_heat_gj_h"], q["flared_kmol_h"] = fuel_sink(
+            q["disposal_heat_gj_h"], q["disposal_kmol_h"], loop.fuel_capacity_gj_h,
+            *(fuel_split or ()))
     q.update({f"per_pass_conversion:{i}": v.conversion[i] for i in range(len(loop.reactions))})
     return q

@@ -9,7 +9,11 @@ Streams (kmol/h per component): ``makeup`` (fresh make-up gas bought),
 ``reactor_feed`` = makeup + direct_feed + recycle (+ ``recovery_return``),
 ``reactor_outlet``, ``liquid_product``, ``separator_vapour``, ``purge`` = a
 separator_vapour, ``recycle`` = (1 - a) separator_vapour, and with a recovery
-unit ``recovery_return`` (back to the make-up) and ``recovery_tail_gas``.
+unit ``recovery_return`` (back to the reactor feed, recompressed from its
+return pressure) and ``recovery_tail_gas``, and ``recovery_export`` for
+recovered gas that leaves the loop sold; with a let-down of the liquid,
+``letdown_gas`` (dissolved gas released) and ``letdown_liquid`` (the product
+as delivered).
 """
 
 from __future__ import annotations
@@ -19,7 +23,7 @@ from dataclasses import dataclass, field
 from .physics.thermo import KELVIN
 from .properties import ComponentData
 
-__all__ = ["KELVIN", "Capital", "Loop", "Prices", "Reaction", "Source"]
+__all__ = ["KELVIN", "Capital", "InletRatio", "Loop", "Prices", "Reaction", "Source"]
 
 
 @dataclass(frozen=True)
@@ -62,8 +66,26 @@ class Source:
     composition: dict[str, float]
     supply_limit_kmol_h: float | None
     enters: str                         # "makeup" | "reactor_feed"
-    compression_work_kj_kmol: float     # isentropic, supply to loop pressure
+    compression_work_kj_kmol: float     # isentropic (gas) or pump (liquid), supply to loop
     temperature_c: float
+    phase: str = "gas"                  # "gas" (compressed) | "liquid" (pumped)
+
+
+@dataclass(frozen=True)
+class InletRatio:
+    """A ratio of two linear forms of the reactor-inlet flows [-].
+
+    ``numerator`` and ``denominator`` map components to coefficients;
+    ``min_ratio``/``max_ratio`` are limits (None for none) and
+    ``stoichiometric`` the value the reactions consume the reactants in.
+    """
+
+    name: str
+    numerator: dict[str, float]
+    denominator: dict[str, float]
+    min_ratio: float | None
+    max_ratio: float | None
+    stoichiometric: float
 
 
 @dataclass(frozen=True)
@@ -93,6 +115,9 @@ class Prices:
     recovery_capital: Capital | None
     recovery_operating_cost_per_kmol: float
     source_price_per_kmol: dict[str, float]
+    co2_price_per_t: float | None = None          # None: no emissions line
+    reactor_pressure_factor: float = 1.0          # F_P(loop) / F_P(reference pressure)
+    recovery_export_price_per_kmol: float = 0.0
 
 
 @dataclass(frozen=True)
@@ -132,6 +157,34 @@ class Loop:
     max_recycle_power_kw: float | None
     prices: Prices
     streams: tuple[str, ...] = field(default=())
+    fuel_capacity_gj_h: float | None = None
+    compressor_arrangement: str = "two_machines"
+    recovery_export_fraction: dict[str, float] | None = None
+    recovery_recompression: str = "none"     # "none" | "makeup_compressor" | "own_compressor"
+    recovery_recompression_work_kj_kmol: float = 0.0
+    recovery_return_pressure_bar: float | None = None
+    letdown_release_fraction: dict[str, float] | None = None
+    letdown_pressure_bar: float | None = None
+    letdown_destination: str = "fuel"
+    ratios: tuple[InletRatio, ...] = ()
+    gas_inventory_kmol: float | None = None
+    pump_efficiency: float = 0.65
+
+    @property
+    def ratio_limits(self) -> tuple[InletRatio, ...]:
+        """The inlet ratios held as limits: those with a bound, where the blend is free."""
+        if not self.blend_free:
+            return ()
+        return tuple(r for r in self.ratios
+                     if r.min_ratio is not None or r.max_ratio is not None)
+
+    @property
+    def outlet_streams(self) -> tuple[str, ...]:
+        """The streams that leave the loop: liquid product, purge gas and any exports."""
+        liquid = (("letdown_liquid", "letdown_gas") if "letdown_gas" in self.streams
+                  else ("liquid_product",))
+        export = ("recovery_export",) if "recovery_export" in self.streams else ()
+        return (*liquid, self.disposal_stream, *export)
 
     @property
     def makeup_sources(self) -> tuple[Source, ...]:

@@ -41,6 +41,24 @@ def add_loop_equations(m: pyo.ConcreteModel, loop: Loop, v: LoopVariables) -> No
                 list(items), rule=lambda _m, k, items=items: items[k] == 0))
 
 
+def add_fuel_sink(m: pyo.ConcreteModel, loop: Loop, v: LoopVariables) -> tuple | None:
+    """The split of the purge gas between a fuel sink with a capacity and the flare.
+
+    ``m.fuel_heat_gj_h`` is held at most the capacity (its bound) and at most
+    the heat of the gas (``m.fuel_sink``); the objective drives it to the
+    smaller of the two (see :func:`purgeplan.equations.fuel_sink`).
+    ``m.disposal_kmol_per_gj`` is the gas's kmol per GJ at the current state,
+    set by the solve layer.  Returns the pair for
+    :func:`purgeplan.equations.quantities`, or None without a capacity.
+    """
+    if loop.fuel_capacity_gj_h is None:
+        return None
+    m.fuel_heat_gj_h = pyo.Var(bounds=(0.0, loop.fuel_capacity_gj_h), initialize=0.0)
+    m.disposal_kmol_per_gj = pyo.Param(mutable=True, initialize=0.0)
+    m.fuel_sink = pyo.Constraint(expr=m.fuel_heat_gj_h <= equations.disposal_heat_gj_h(v, loop))
+    return m.fuel_heat_gj_h, m.disposal_kmol_per_gj
+
+
 def add_limits(m: pyo.ConcreteModel, loop: Loop, q: dict) -> None:
     """The state limits of :func:`purgeplan.limits.loop_limits` as ``m.limit[name]``.
 
@@ -56,9 +74,10 @@ def add_limits(m: pyo.ConcreteModel, loop: Loop, q: dict) -> None:
     def rule(_m, name):
         lim = table[name]
         bound = lim.bound * (q[lim.per] if lim.per else 1.0)
+        relax = m.limit_relaxation if lim.relaxed else 0.0
         if lim.sense == "max":
-            return q[lim.quantity] <= bound + m.limit_relaxation
-        return q[lim.quantity] >= bound - m.limit_relaxation
+            return q[lim.quantity] <= bound + relax
+        return q[lim.quantity] >= bound - relax
 
     m.LIMIT = pyo.Set(initialize=list(table))
     m.limit = pyo.Constraint(m.LIMIT, rule=rule)
@@ -122,7 +141,8 @@ def build_model(loop: Loop, capital: str = "tangent", design: str = "fixed"
     v = LoopVariables(flow=m.flow, extent=m.extent, source=m.source,
                       purge_fraction=m.purge_fraction, conversion=m.conversion)
     add_loop_equations(m, loop, v)
-    q = quantities(v, loop, m.recycle_work_kj_kmol, m.catalyst_volume_per_feed_m3_h_kmol)
+    q = quantities(v, loop, m.recycle_work_kj_kmol, m.catalyst_volume_per_feed_m3_h_kmol,
+                   fuel_split=add_fuel_sink(m, loop, v))
     for key in ("recycle_compressor_power_kw", "makeup_compressor_power_kw", "reactor_volume_m3",
                 "reactor_feed_kmol_h", "inert_kmol_h_reactor_inlet", "disposal_heat_gj_h"):
         m.add_component(key, pyo.Expression(expr=q[key]))

@@ -220,6 +220,18 @@ class LoopLP:
             self.sizes[line.key] = size
         return moved
 
+    def _refresh_fuel_sink(self, state: LoopState) -> bool:
+        """Step 3 also moves the purge gas's kmol per GJ of a fuel sink with a capacity."""
+        if self.loop.fuel_capacity_gj_h is None:
+            return False
+        q = state.quantities
+        kappa = q["disposal_kmol_h"] / q["disposal_heat_gj_h"] if q["disposal_heat_gj_h"] else 0.0
+        param = self.model.disposal_kmol_per_gj
+        if abs(kappa - param.value) <= 1e-12 * max(kappa, 1e-300):
+            return False
+        param.value = kappa
+        return True
+
     def evaluate(self, purge_fraction: float, sized_conversion: float | None = None,
                  enforce_limits: bool = True) -> LoopState | None:
         """Converged state at the design variables, or None if infeasible.
@@ -258,7 +270,7 @@ class LoopLP:
                 return state
             if self.square:
                 return self._keep_checked(key, state)
-            if self._refresh_capital_tangents(state):
+            if self._refresh_capital_tangents(state) | self._refresh_fuel_sink(state):
                 x = dict(state.conversion)
                 continue
             if relaxed:

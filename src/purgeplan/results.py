@@ -45,6 +45,10 @@ class LoopState:
     catalyst_volume_per_feed_m3_h_kmol: float
     equilibrium_conversion: dict[int, float] = field(default_factory=dict)
     route: str = ""
+    #: One-line warnings about this state and its prices (empty when none).
+    warnings: list[str] = field(default_factory=list)
+    #: Every reactor-inlet ratio the case defines, by name [-].
+    inlet_ratio: dict[str, float] = field(default_factory=dict)
 
     @property
     def first_reaction_conversion(self) -> float:
@@ -71,10 +75,12 @@ def _balances(loop: Loop, flows, extents) -> tuple[float, float]:
     """Largest relative species and element balance errors over the whole loop [-].
 
     Recomputed from the streams alone: what enters with the feeds, plus what
-    the reactions make, minus what leaves with the liquid and the purge gas.
+    the reactions make, minus what leaves the loop (:attr:`Loop.outlet_streams`:
+    the liquid, or the let-down liquid and gas, the purge gas and any
+    recovered gas exported).
     """
     feeds = list(loop.feed_streams)
-    out_streams = ["liquid_product", loop.disposal_stream]
+    out_streams = list(loop.outlet_streams)
     scale = max(sum(flows[s][c] for s in feeds for c in loop.components), 1e-300)
     species = 0.0
     for c in loop.components:
@@ -94,6 +100,53 @@ def _balances(loop: Loop, flows, extents) -> tuple[float, float]:
     element = max((abs(v) / (element_scale[e] if element_scale[e] > 0 else all_atoms)
                    for e, v in elements.items()), default=0.0)
     return species, element
+
+
+def inlet_ratios(loop: Loop, flows) -> dict[str, float]:
+    """Every reactor-inlet ratio of the case at the flows, by name [-].
+
+    The ratios of direct feeds (``loop.inlet_ratios``, named "num/den") and
+    the ratios of linear forms (``loop.ratios``); NaN where the denominator is 0.
+    """
+    feed = flows["reactor_feed"]
+    out = {f"{num}/{den}": (feed[num] / feed[den] if feed[den] > 0 else math.nan)
+           for num, den, _ in loop.inlet_ratios}
+    for r in loop.ratios:
+        num = sum(k * feed[c] for c, k in r.numerator.items())
+        den = sum(k * feed[c] for c, k in r.denominator.items())
+        out[r.name] = num / den if den > 0 else math.nan
+    return out
+
+
+#: Relative departure from stoichiometric above which an inlet ratio not held is flagged [-].
+RATIO_WARNING_TOLERANCE = 0.01
+
+
+def ratio_warnings(loop: Loop, ratios: dict[str, float]) -> list[str]:
+    """A warning for each inlet ratio the loop does not hold that departs from stoichiometric."""
+    held = {r.name for r in loop.ratio_limits}
+    out = []
+    for r in loop.ratios:
+        value = ratios[r.name]
+        if r.name in held or not math.isfinite(value):
+            continue
+        departure = value / r.stoichiometric - 1.0
+        if abs(departure) <= RATIO_WARNING_TOLERANCE:
+            continue
+        why = ("no bound is set" if r.min_ratio is None and r.max_ratio is None else
+               "nothing can hold it (a second make-up source or an adjustment source is needed)")
+        out.append(f"reactor-inlet ratio {r.name!r} is {value:.4g}, {abs(departure):.1%} "
+                   f"{'above' if departure > 0 else 'below'} stoichiometric "
+                   f"{r.stoichiometric:.4g}; it is not held: {why}")
+    return out
+
+
+def unit_warnings(loop: Loop) -> list[str]:
+    """A warning for a recovery unit whose return is taken at loop pressure for want of data."""
+    if loop.recovery_return_fraction is None or loop.recovery_return_pressure_bar is not None:
+        return []
+    return [f"recovery unit {loop.recovery_name!r} has no return_pressure_bar: its return is "
+            "taken at loop pressure and no recompression is charged"]
 
 
 def costing(loop: Loop) -> tuple[list, dict[str, float]]:
@@ -122,16 +175,15 @@ def make_state(loop: Loop, purge_fraction: float, conversion: dict[int, float],
     tonnes = q["product_t_h"] * loop.prices.hours_per_year
     feed = flows["reactor_feed"]
     total_feed = sum(feed.values())
-    reactants = sorted({c for r in loop.reactions for c, nu in r.stoichiometry.items() if nu < 0})
-    spend = sum(loop.prices.source_price_per_kmol[s] * f for s, f in sources.items())
-    reactant_bought = sum(flows[s][c] for s in loop.feed_streams for c in reactants)
-    lost = sum(flows[s][c] for s in ("liquid_product", loop.disposal_stream) for c in reactants)
-    price_per_reactant = spend / reactant_bought if reactant_bought > 0 else 0.0
+    value = costs.reactant_value_per_kmol(loop, sources)
+    lost = sum(flows[s][c] * value[c] for s in ("liquid_product", loop.disposal_stream)
+               for c in value)
     key = loop.reactions[0].key_reactant
     fed_key = sum(flows[s][key] for s in loop.feed_streams)
     consumed_key = sum(-r.stoichiometry[key] * extents[i] for i, r in enumerate(loop.reactions)
                        if key in r.stoichiometry)
     species, element = _balances(loop, flows, extents) if balances else (math.nan, math.nan)
+    ratios = inlet_ratios(loop, flows)
     return LoopState(
         name=loop.name, purge_fraction=float(purge_fraction),
         conversion={i: float(x) for i, x in conversion.items()}, flows=flows,
@@ -139,14 +191,16 @@ def make_state(loop: Loop, purge_fraction: float, conversion: dict[int, float],
         quantities={k: float(x) for k, x in q.items()},
         costs={k: float(x) for k, x in lines.items()}, tac_per_year=tac,
         cost_per_tonne_product=tac / tonnes if tonnes > 0 else float("inf"),
-        lost_reactant_memo_per_year=lost * price_per_reactant * loop.prices.hours_per_year,
+        lost_reactant_memo_per_year=lost * loop.prices.hours_per_year,
         inert_fraction_reactor_inlet=(q["inert_kmol_h_reactor_inlet"] / total_feed
                                       if total_feed > 0 else 0.0),
         overall_conversion=consumed_key / fed_key if fed_key > 0 else 0.0,
         species_balance_error=species, element_balance_error=element,
         recycle_work_kj_kmol=float(work_kj_kmol),
         catalyst_volume_per_feed_m3_h_kmol=float(volume_per_feed),
-        equilibrium_conversion=dict(equilibrium_conversion or {}), route=route)
+        equilibrium_conversion=dict(equilibrium_conversion or {}), route=route,
+        warnings=costs.price_warnings(loop) + unit_warnings(loop) + ratio_warnings(loop, ratios),
+        inlet_ratio=ratios)
 
 
 def with_balances(loop: Loop, state: LoopState) -> LoopState:

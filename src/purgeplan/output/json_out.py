@@ -6,7 +6,9 @@ first); a study adds ``case_name``, ``currency``, ``created``, ``break_even``
 (the fields of :class:`purgeplan.study.BreakEven`), ``sensitivity`` (the
 fields of :class:`purgeplan.study.SensitivityRow`) and
 ``sensitivity_fraction``.  Flows in kmol/h, money in the case currency per
-year.  Non-finite numbers are written as null.
+year.  Non-finite numbers are written as null.  Every alternative carries
+``warnings``: one-line strings, empty when none (for instance a bought gas
+whose fuel value meets or exceeds its price).
 """
 
 from __future__ import annotations
@@ -19,6 +21,7 @@ from pathlib import Path
 from typing import TYPE_CHECKING
 
 from .. import __version__
+from ..costs import price_warnings
 from ..equations import stream_conditions
 from ..loop import Loop
 from ..solve import Optimum
@@ -51,7 +54,9 @@ def alternative_record(name: str, loop: Loop, opt: Optimum, choices: dict | None
         rec.update({k: None for k in ("purge_fraction", "inert_fraction_reactor_inlet",
                                       "per_pass_conversion", "overall_conversion",
                                       "tac_per_year", "cost_per_tonne_product")})
-        rec.update(costs={}, reactions=[], streams={}, binding_constraints=[], curve=[])
+        rec.update(costs={}, reactions=[], streams={}, binding_constraints=[], curve=[],
+                   warnings=price_warnings(loop), inlet_ratio={},
+                   time_to_inert_limit_h={"purge_closed": None, "recovery_down": None})
         return _clean(rec)
     rec.update({
         "purge_fraction": s.purge_fraction,
@@ -63,6 +68,7 @@ def alternative_record(name: str, loop: Loop, opt: Optimum, choices: dict | None
         "currency": loop.prices.currency,
         "costs": dict(s.costs),
         "lost_reactant_memo_per_year": s.lost_reactant_memo_per_year,
+        "warnings": list(s.warnings),
         "reactions": [{"name": r.name, "stoichiometry": dict(r.stoichiometry),
                        "key_reactant": r.key_reactant,
                        "per_pass_conversion": s.conversion[i],
@@ -73,6 +79,8 @@ def alternative_record(name: str, loop: Loop, opt: Optimum, choices: dict | None
                                      "total_kmol_h": sum(s.flows[name].values())}
                               for name, pc in stream_conditions(loop).items()},
         "quantities": dict(s.quantities),
+        "inlet_ratio": dict(s.inlet_ratio),
+        "time_to_inert_limit_h": dict(opt.time_to_inert_limit_h),
         "balance_error": s.balance_error,
         "binding_constraints": list(opt.binding_constraints),
         "curve": [dataclasses.asdict(point) for point in opt.curve],

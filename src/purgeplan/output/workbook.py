@@ -346,13 +346,13 @@ def _assumptions_sheet(wb: Workbook, ws: Worksheet, study: StudyResult, refs: _R
 # Cost build-up
 
 
-def _crf_formula(n) -> str:
+def _crf_formula(n, life_key: str = "life_years") -> str:
     """Capital recovery factor over the assumption names (straight line at zero rate).
 
     CRF = i (1+i)^n / ((1+i)^n - 1); 1/n when i = 0 (Peters, Timmerhaus and
-    West, ch. 7).
+    West, ch. 7); n is the economic life, or ``life_key``'s (the catalyst's).
     """
-    i, life = n("discount_rate"), n("life_years")
+    i, life = n("discount_rate"), n(life_key)
     return f"IF({i}=0,1/{life},{i}*(1+{i})^{life}/((1+{i})^{life}-1))"
 
 
@@ -370,10 +370,13 @@ def _line_formula(line: costs.CostLine, qty: str, crf: str, n) -> tuple[str, str
                 f"*({qty}/{n(p + '_reference_size')})^{n(p + '_exponent')}")
         reading = (f"CRF x {n(p + '_reference_cost')} x {n('cost_index_ratio')} x "
                    f"(quantity / {n(p + '_reference_size')})^{n(p + '_exponent')}")
+        if line.factor:
+            text += f"*{n(line.factor)}"
+            reading += f" x {n(line.factor)}"
         return text, reading
     if line.kind == "replacement":
-        return (f"{qty}*{n(line.price)}/{n(line.life)}",
-                f"quantity x {n(line.price)} / {n(line.life)}")
+        return (f"{_crf_formula(n, line.life)}*{qty}*{n(line.price)}",
+                f"CRF over {n(line.life)} x quantity x {n(line.price)}")
     raise ValueError(f"cost line {line.key!r}: unknown kind {line.kind!r}")
 
 
@@ -463,6 +466,9 @@ def _cost_block(ws: Worksheet, row: int, alt: Alternative, refs: _Refs, cur: str
     row += 1
     _text(ws, row, 1, "Binding constraints")
     _text(ws, row, 3, ", ".join(alt.optimum.binding_constraints) or "none")
+    row += 1
+    _text(ws, row, 1, "Warnings")
+    _text(ws, row, 3, "; ".join(state.warnings) or "none", wrap=True)
     return row + 1
 
 
@@ -940,9 +946,13 @@ def _notes_sheet(ws: Worksheet, study: StudyResult, refs: _Refs) -> None:
         "capital lines: CRF x reference_cost x cost_index_ratio x (quantity / reference_size)"
         "^exponent; CRF = i (1+i)^n / ((1+i)^n - 1), 1/n at i = 0 (Peters, Timmerhaus and "
         "West, ch. 7; capacity scaling, Turton et al., eq. 7.1).",
-        "replacement lines: quantity x price / life (catalyst replacement).",
+        "replacement lines: CRF over the item's own life x quantity x price (catalyst "
+        "replacement: a charge bought every catalyst life, annualised like the capital).",
+        "capital lines with a factor: the reactor's vessel pressure factor at loop pressure "
+        "over that at the reference pressure (Turton et al., eq. 7.10).",
         "The make-up gas price already pays for the reactant lost with the purge and the "
-        "liquid product; its value is shown as a memo and not added to TAC.",
+        "liquid product; its value, each reactant at its own source price, is shown as a "
+        "memo and not added to TAC.",
         "Quantities (flows, powers, volumes) are values at the optimum; costs are formulas "
         "over the Assumptions sheet. Cost curves, sensitivity, break-even and off-optimum "
         "figures are values at the case prices.")])

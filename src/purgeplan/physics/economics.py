@@ -7,6 +7,10 @@ Economics for Chemical Engineers*, 5th ed., 2003, ch. 7.
 Capacity scaling ("six-tenths rule") with a cost-index ratio: Turton et al.,
 *Analysis, Synthesis and Design of Chemical Processes*, 3rd ed., eqs 7.1-7.3;
 Silla, *Chemical Process Engineering: Design and Economics*, 2003, p. 76.
+Vessel pressure factor: Turton et al., 3rd ed., 2009, eq. 7.10, p. 203 (the
+assumed S = 944 bar, CA = 0.00315 m and t_min = 0.0063 m seen in a stored copy
+of that page; the form of the equation, with the weld efficiency 0.9 that
+makes S E = 850 bar, from memory).
 """
 
 from __future__ import annotations
@@ -51,3 +55,32 @@ def scaled_capital_cost(reference_cost: float, size, reference_size: float,
         Cost index now over cost index of the reference cost [-].
     """
     return reference_cost * cost_index_ratio * (size / reference_size) ** exponent
+
+
+#: Turton et al. eq. 7.10: S E [bar], corrosion allowance [m], minimum wall [m].
+VESSEL_STRESS_TIMES_WELD_EFFICIENCY_BAR = 850.0
+VESSEL_CORROSION_ALLOWANCE_M = 0.00315
+VESSEL_MINIMUM_WALL_M = 0.0063
+
+
+def vessel_pressure_factor(pressure_barg: float, diameter_m: float) -> float:
+    """Pressure factor of a carbon-steel process vessel, Turton et al. eq. 7.10 [-].
+
+    F_P = ((P + 1) D / (2 [850 - 0.6 (P + 1)]) + 0.00315) / 0.0063, and 1 where
+    the wall this gives is thinner than the 0.0063 m minimum (F_P < 1).  The
+    first term is the wall thickness of a cylindrical shell under internal
+    pressure (ASME VIII Div. 1 form, design pressure P + 1 barg), the second
+    the corrosion allowance; the divisor is the minimum wall.
+
+    Parameters
+    ----------
+    pressure_barg : float
+        Operating pressure P [barg], at least -0.5 (below that Turton gives
+        1.25 for vacuum service, not handled here).
+    diameter_m : float
+        Vessel inside diameter D [m].
+    """
+    design = pressure_barg + 1.0
+    wall_m = design * diameter_m / (2.0 * (VESSEL_STRESS_TIMES_WELD_EFFICIENCY_BAR
+                                           - 0.6 * design))
+    return max(1.0, (wall_m + VESSEL_CORROSION_ALLOWANCE_M) / VESSEL_MINIMUM_WALL_M)
