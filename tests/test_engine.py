@@ -61,7 +61,11 @@ DEMO_LOOPS = demo_alternatives()
 
 @pytest.mark.parametrize(("name", "loop"), DEMO_LOOPS, ids=[n for n, _ in DEMO_LOOPS])
 def test_demo_alternatives_close_their_balances(name, loop):
-    state = purgeplan.steady_state(loop)
+    # the demo's nitrogen only trims H2/N2 (the optimiser sets it, see test_recovery):
+    # any fixed share below H2/N2 = 3 starves the loop of hydrogen, so none here
+    names = {s.name for s in loop.sources}
+    state = purgeplan.steady_state(loop, shares={"nitrogen": 0.0} if "nitrogen" in names
+                                   else None)
     assert state.species_balance_error < BALANCE_TOL
     assert state.element_balance_error < BALANCE_TOL
     assert state.balance_error < BALANCE_TOL
