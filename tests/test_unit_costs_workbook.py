@@ -1,4 +1,4 @@
-"""The cost lines of recovery recompression and export, direct feeds and let-down gas in the workbook.
+"""Recovery recompression and export, direct feeds and let-down gas: their workbook cost lines.
 
 Reference: the tool's own cost model (:func:`purgeplan.costs.evaluate`); the
 workbook's live formulas are evaluated by LibreOffice Calc (headless, as in

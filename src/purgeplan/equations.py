@@ -91,7 +91,7 @@ def purge_split(v: LoopVariables, loop: Loop):
 
 
 def recovery_split(v: LoopVariables, loop: Loop):
-    """Recovery return Q_c = rho_c P_c to the loop, export E_c = e_c P_c; tail gas P_c - Q_c - E_c."""
+    """Return Q_c = rho_c P_c to the loop, export E_c = e_c P_c; tail gas P_c - Q_c - E_c."""
     if loop.recovery_return_fraction is None:
         return
     export = loop.recovery_export_fraction

@@ -67,7 +67,8 @@ def joining_stage(supply_pressure_bar: float, discharge_pressure_bar: float, sta
                          f"compressor suction {supply_pressure_bar:.4g} bar")
     r = (discharge_pressure_bar / supply_pressure_bar) ** (1.0 / stages)
     k = 0
-    while k + 1 < stages and supply_pressure_bar * r ** (k + 1) <= return_pressure_bar * (1 + 1e-12):
+    reach = return_pressure_bar * (1.0 + 1e-12)
+    while k + 1 < stages and supply_pressure_bar * r ** (k + 1) <= reach:
         k += 1
     return k
 
