@@ -14,8 +14,7 @@ import dataclasses
 from collections.abc import Mapping
 
 from .case import CapitalItem, Case, stoichiometric_ratio
-from .case_checks import (component_data, condensate_vapour_ratio, formation_terms,
-                          letdown_release)
+from .case_checks import component_data, condensate_vapour_ratio, formation_terms, letdown_release
 from .coefficients import equilibrium_rhs, mixture_heat_capacity_ratio
 from .loop import KELVIN, Capital, InletRatio, Loop, Prices, Reaction, Source
 from .physics import compression, economics
