@@ -288,3 +288,21 @@ def test_hydrogenation_demo_values_hydrogen_at_its_own_price():
     assert state.lost_reactant_memo_per_year == pytest.approx(
         sum(lost[c] * value[c] for c in value) * loop.prices.hours_per_year, rel=1e-9)
     assert math.isfinite(state.lost_reactant_memo_per_year)
+
+
+@pytest.mark.parametrize("reference_bar, path", [
+    (0.2, "reactor.capital_reference_pressure_bar"),
+    (1500.0, "reactor.capital_reference_pressure_bar")])
+def test_vessel_pressures_outside_the_factor_range_are_refused(reference_bar, path):
+    reactor = f"vessel_diameter_m = 2.5\ncapital_reference_pressure_bar = {reference_bar!r}\n"
+    with pytest.raises(CaseError) as err:
+        parse_case_text(text(reactor=reactor))
+    assert err.value.path == path
+    assert "Turton" in err.value.message
+
+
+def test_loop_pressure_above_the_factor_range_is_refused():
+    reactor = "vessel_diameter_m = 2.5\ncapital_reference_pressure_bar = 100.0\n"
+    with pytest.raises(CaseError) as err:
+        parse_case_text(text(reactor=reactor, pressure_bar=1200.0))
+    assert err.value.path == "loop.pressure_bar"

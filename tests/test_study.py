@@ -38,7 +38,8 @@ def test_ranking_is_by_tac_and_complete(study):
     assert [a.rank for a in ranked] == list(range(1, len(ranked) + 1))
     tacs = [a.optimum.state.tac_per_year for a in ranked]
     assert tacs == sorted(tacs)
-    assert len(study.alternatives) == 8  # 2 grades x 2 destinations x 2 recovery choices
+    # 3 make-up choices (two grades and their blend) x 2 destinations x 3 recovery choices
+    assert len(study.alternatives) == 18
 
 
 def test_ranking_does_not_depend_on_option_order(study):
@@ -106,7 +107,7 @@ def test_explicit_alternatives_and_exclusions():
     raw = _raw()
     raw["exclude"] = [{"makeup_grade": "purified", "recovery": "membrane"}]
     names = [n for n, _, _ in expand_alternatives(validate_case_dict(raw))]
-    assert len(names) == 6 and not any("purified" in n and "membrane" in n for n in names)
+    assert len(names) == 16 and not any("purified" in n and "membrane" in n for n in names)
     raw = _raw()
     raw["alternatives"] = [{"name": "present plant", "choices": {
         "makeup_grade": "standard", "purge_destination": "fuel", "recovery": "none"}}]

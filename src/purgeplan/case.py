@@ -363,6 +363,8 @@ def _check_loop(case: Case, need: _Need) -> None:
 #: Highest loop pressure for the vessel pressure factor (Turton et al. eq. 7.10 needs
 #: 850 - 0.6 (P + 1) well above 0, P in barg) [bar abs].
 MAX_VESSEL_PRESSURE_BAR = 1000.0
+#: Lowest: -0.5 barg, below which Turton et al. give a vacuum-service factor instead.
+MIN_VESSEL_PRESSURE_BAR = 0.5
 
 
 def _check_reactor_vessel(case: Case) -> None:
@@ -379,9 +381,10 @@ def _check_reactor_vessel(case: Case) -> None:
         return
     for path, p in (("loop.pressure_bar", case.loop.pressure_bar),
                     ("reactor.capital_reference_pressure_bar", r.capital_reference_pressure_bar)):
-        if p > MAX_VESSEL_PRESSURE_BAR:
-            raise CaseError(path, f"{p:g} bar is above {MAX_VESSEL_PRESSURE_BAR:g} bar, the "
-                            "range kept for the vessel pressure factor (Turton et al. eq. 7.10)")
+        if not MIN_VESSEL_PRESSURE_BAR <= p <= MAX_VESSEL_PRESSURE_BAR:
+            raise CaseError(path, f"{p:g} bar is outside {MIN_VESSEL_PRESSURE_BAR:g} to "
+                            f"{MAX_VESSEL_PRESSURE_BAR:g} bar abs, the range kept for the vessel "
+                            "pressure factor (Turton et al. eq. 7.10; vacuum vessels excluded)")
 
 
 def _check_separator(case: Case, need: _Need) -> None:

@@ -23,7 +23,8 @@ Counting reactant losses: the make-up gas is bought at its price, which
 already pays for the reactant that leaves in the purge and dissolved in the
 liquid product.  The value of that lost reactant is therefore reported as a
 memo line (``lost_reactant_memo``) and is *not* added to the total, so nothing
-is counted twice.
+is counted twice.  Each reactant in it is valued at its own source price
+(:func:`reactant_value_per_kmol`), not at an average over all reactants.
 """
 
 from __future__ import annotations

@@ -215,8 +215,9 @@ def fuel_sink(heat_gj_h, kmol_h, capacity_gj_h: float, fuel_heat_gj_h=None,
     expression, kmol - kmol_per_gj fuel.
     """
     if fuel_heat_gj_h is None:
-        fuel_heat_gj_h = min(heat_gj_h, capacity_gj_h)
-        kmol_per_gj = kmol_h / heat_gj_h if heat_gj_h > 0.0 else 0.0
+        if heat_gj_h <= capacity_gj_h:
+            return heat_gj_h, 0.0         # all to fuel (exactly, without rounding)
+        fuel_heat_gj_h, kmol_per_gj = capacity_gj_h, kmol_h / heat_gj_h
     return fuel_heat_gj_h, kmol_h - kmol_per_gj * fuel_heat_gj_h
 
 
