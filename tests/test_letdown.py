@@ -167,3 +167,13 @@ def test_bad_letdown_is_refused_with_its_key_path(old, new, path):
     with pytest.raises(CaseError) as err:
         parse_case_text(CASE.replace(old, new))
     assert err.value.path == path
+
+
+def test_letdown_gas_pays_for_its_co2():
+    # carbon balance: 1 C per CH4, 44.009 kg CO2 per kmol (purgeplan.physics.emissions);
+    # line = t/h x price x 8000 h/year
+    text = CASE.replace("hours_per_year = 8000", "hours_per_year = 8000\nco2_price_per_t = 80.0")
+    loop, s = state_of(text)
+    tonnes = s.flows["letdown_gas"]["CH4"] * 44.009 / 1000.0
+    assert s.quantities["letdown_co2_t_h"] == pytest.approx(tonnes, rel=1e-12)
+    assert s.costs["letdown_co2_emissions"] == pytest.approx(tonnes * 80.0 * 8000.0, rel=1e-12)

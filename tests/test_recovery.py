@@ -93,6 +93,7 @@ capital = {{ reference_cost = 3.0e6, reference_size = 500 }}
 hours_per_year = 8000
 power_price_per_kwh = 0.07
 fuel_price_per_gj = 7.5
+co2_price_per_t = 80.0
 compressor_capital = {{ reference_cost = 6.0e6, reference_size = 10000, exponent = 0.62 }}
 reactor_capital = {{ reference_cost = 8.0e6, reference_size = 60, exponent = 0.65 }}
 """

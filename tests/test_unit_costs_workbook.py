@@ -78,7 +78,7 @@ choices = { unit = "none", feed = "nitrogen", letdown = "fuel" }
 NEW_LINES = {"recovery_recompression_power", "recovery_recompression_capital",
              "recovery_export_sales", "direct_feed_compression_power",
              "direct_feed_compressor_capital", "direct_feed_pumping_power",
-             "letdown_fuel_credit", "letdown_flaring"}
+             "letdown_fuel_credit", "letdown_flaring", "letdown_co2_emissions"}
 
 
 def study_text() -> str:

@@ -191,6 +191,9 @@ def _unit_lines(loop: Loop) -> list[CostLine]:
     elif loop.letdown_release_fraction is not None:
         lines.append(CostLine("letdown_flaring", "Let-down gas flaring", "hourly",
                               "letdown_kmol_h", "kmol/h", price="flare_cost_per_kmol"))
+    if loop.letdown_release_fraction is not None and loop.prices.co2_price_per_t is not None:
+        lines.append(CostLine("letdown_co2_emissions", "CO2 from let-down gas burned or flared",
+                              "hourly", "letdown_co2_t_h", "t/h", price="co2_price_per_t"))
     return lines
 
 

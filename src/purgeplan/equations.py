@@ -255,6 +255,12 @@ def letdown_kmol_h(v: LoopVariables, loop: Loop):
     return sum(v.flow["letdown_gas", c] for c in loop.components)
 
 
+def letdown_co2_t_h(v: LoopVariables, loop: Loop):
+    """CO2 from burning or flaring the let-down gas, by its carbon [t/h]."""
+    return sum(v.flow["letdown_gas", c] * emissions.co2_t_per_kmol(carbon_atoms(loop, c))
+               for c in loop.components if carbon_atoms(loop, c) > 0)
+
+
 def letdown_heat_gj_h(v: LoopVariables, loop: Loop):
     """Lower heating value carried by the let-down gas [GJ/h]."""
     return sum(v.flow["letdown_gas", c] * (loop.data[c].lhv_kj_mol / 1000.0)
@@ -317,6 +323,7 @@ def _unit_quantities(v: LoopVariables, loop: Loop) -> dict:
     if "letdown_gas" in loop.streams:
         q["letdown_kmol_h"] = letdown_kmol_h(v, loop)
         q["letdown_heat_gj_h"] = letdown_heat_gj_h(v, loop)
+        q["letdown_co2_t_h"] = letdown_co2_t_h(v, loop)
     q.update(inlet_ratio_forms(v, loop))
     return q
 
