@@ -1,4 +1,9 @@
-"""Atomic file writes: a failed run never leaves a half-written or clobbered file."""
+"""Atomic file writes: a failed run never leaves a half-written or clobbered file.
+
+:func:`file_problem` and :func:`folder_problem` say before any work is done
+whether an output could be written where it is asked for, so that a long run
+does not fail at its end.
+"""
 
 from __future__ import annotations
 
@@ -71,3 +76,66 @@ def write_atomically(path: str | Path, write: Callable[[Path], None]) -> Path:
             tmp.unlink()
         raise
     return path
+
+
+def _folder_words(folder: Path) -> str:
+    return "the current folder" if str(folder) in ("", ".") else f"folder {folder}"
+
+
+def _probe(folder: Path, name: str) -> str | None:
+    """Why no file can be created in ``folder`` (a temporary file is made and removed)."""
+    try:
+        fd, probe = tempfile.mkstemp(dir=folder, prefix=f".{name}.{os.getpid()}.",
+                                     suffix=".part")
+    except OSError as exc:
+        return (f"cannot write in {_folder_words(folder)} ({exc.strerror or exc}); "
+                "choose another folder")
+    os.close(fd)
+    with contextlib.suppress(OSError):
+        os.unlink(probe)
+    return None
+
+
+def file_problem(path: str | Path) -> str | None:
+    """Why :func:`write_atomically` could not write ``path``, in plain words, or None.
+
+    The folder must exist (none is created) and take a new file; an existing
+    ``path`` must be a regular file, which the write then replaces.
+    """
+    path = Path(path)
+    folder = path.parent
+    if path.is_dir():
+        return "is a folder; give a file name"
+    if path.exists() and not path.is_file():
+        return "exists and is not a regular file; give another file name"
+    if not folder.exists():
+        return f"{_folder_words(folder)} does not exist; create it first"
+    if not folder.is_dir():
+        return f"{folder} is not a folder"
+    return _probe(folder, path.name)
+
+
+def folder_problem(folder: str | Path) -> str | None:
+    """Why files could not be written in ``folder``, in plain words, or None.
+
+    A missing ``folder`` is fine when the folder that would hold it exists and
+    takes a new entry (see :func:`make_folder`); missing parents are not created.
+    """
+    folder = Path(folder)
+    if folder.exists():
+        if not folder.is_dir():
+            return "exists and is not a folder"
+        return _probe(folder, "probe")
+    parent = folder.parent
+    if not parent.exists():
+        return f"{_folder_words(parent)} does not exist; create it first"
+    if not parent.is_dir():
+        return f"{parent} is not a folder"
+    return _probe(parent, folder.name)
+
+
+def make_folder(folder: str | Path) -> Path:
+    """Create ``folder`` if it is missing (its parent must exist)."""
+    folder = Path(folder)
+    folder.mkdir(exist_ok=True)
+    return folder
