@@ -120,7 +120,7 @@ def test_exception_during_json_save_leaves_earlier_json(tmp_path, small_case, mo
 
     monkeypatch.setattr(json_out.json, "dumps", broken)
     code = main(["optimize", str(small_case), "--alternative", "fuel", "--json", str(js)])
-    assert code == 2
+    assert code == 5  # a failure to write, after the work
     assert _snapshot(tmp_path) == before
 
 
@@ -137,6 +137,7 @@ def test_solver_fault_marks_one_alternative_failed_everywhere(tmp_path, small_ca
         return original(self, *args)
 
     monkeypatch.setattr(LoopLP, "_converge", flaky)
+    monkeypatch.setenv("COLUMNS", "200")  # the reasons on one line each
     out, js = tmp_path / "s.xlsx", tmp_path / "s.json"
     code = main(["study", str(small_case), "-o", str(out), "--json", str(js), "--quiet"])
     assert code == 4
