@@ -415,6 +415,7 @@ liquid_density_kg_m3 = 807
     ('enters = "reactor_feed"\nphase = "liquid"\n', 'phase = "liquid"\n',
      "sources.liquid_nitrogen.phase"),
     ("liquid_density_kg_m3 = 807\n", "", "sources.liquid_nitrogen.liquid_density_kg_m3"),
+    ('phase = "liquid"\n', 'phase = "gas"\n', "sources.liquid_nitrogen.liquid_density_kg_m3"),
 ])
 def test_bad_liquid_feeds_are_refused_with_their_key_path(old, new, path):
     feed = """

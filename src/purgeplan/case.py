@@ -431,6 +431,9 @@ def _check_source(base: str, src: SourceSpec, loop_pressure_bar: float, need: _N
     if src.phase == "liquid" and src.enters == "makeup":
         raise CaseError(f"{base}.phase", "a liquid is pumped straight to the reactor: give "
                         "enters = 'reactor_feed', or phase = 'gas' for make-up gas")
+    if src.phase == "gas" and src.liquid_density_kg_m3 is not None:
+        raise CaseError(f"{base}.liquid_density_kg_m3",
+                        "used only with phase = 'liquid': delete it, or give phase = 'liquid'")
     if src.phase == "liquid" and src.liquid_density_kg_m3 is None:
         raise CaseError(f"{base}.liquid_density_kg_m3",
                         "required when phase = 'liquid' (the pump work is volume x pressure rise)")
