@@ -873,8 +873,11 @@ def test_optimize_with_negative_tac_reports(worker, tmp_path):
                                      runner=lambda argv: worker.run(argv, OPTIMIZE_TIMEOUT_S),
                                      allowed=OPTIMIZE_OK)
     assert status == 0, err
-    (rec,) = json.loads(target.read_text(encoding="utf-8"))["alternatives"]
+    records = json.loads(target.read_text(encoding="utf-8"))["alternatives"]
+    (rec,) = [r for r in records if r["choices"].get("purge_destination") == "fuel"]
     assert rec["feasible"] is True and rec["tac_per_year"] < 0
+    # burning the bought gas pays at these prices, and the result says so
+    assert any(w.startswith("make-up gas 'syngas': fuel value") for w in rec["warnings"])
     low, high = rec["off_optimum"]["band_1pct_purge_fraction"]
     assert low <= rec["purge_fraction"] <= high
 
