@@ -179,15 +179,14 @@ def test_no_inventory_or_no_recovery_gives_none():
     assert got["recovery_down"] is None and got["purge_closed"] is not None
 
 
-def test_an_optimum_at_the_inert_limit_has_no_time_left():
-    # the demo's standard-gas optimum holds the inert fraction at its limit
-    case, _ = purgeplan.load_case("cases/ammonia_demo.toml")
-    alts = {n: c for n, _, c in purgeplan.expand_alternatives(case)}
-    name = "makeup_grade=standard, purge_destination=fuel, recovery=membrane"
-    loop = purgeplan.build_loop(alts[name], name)
-    opt = optimise(loop, details=False)
-    assert "max_inert_fraction_reactor_inlet" in opt.binding_constraints
-    assert opt.time_to_inert_limit_h == {"purge_closed": 0.0, "recovery_down": 0.0}
+def test_a_state_at_the_inert_limit_has_no_time_left(loop_and_state):
+    # an optimum that holds the inert fraction at its limit reaches it at once on any upset
+    import dataclasses
+
+    loop, s = loop_and_state
+    at_limit = dataclasses.replace(loop, max_inert_fraction_reactor_inlet=(
+        s.inert_fraction_reactor_inlet))
+    assert time_to_inert_limit(at_limit, s) == {"purge_closed": 0.0, "recovery_down": 0.0}
 
 
 def test_json_carries_the_hours(loop_and_state):
