@@ -95,7 +95,7 @@ def _add_case(p: argparse.ArgumentParser, *, optional: bool = False) -> None:
 def _add_alternative(p: argparse.ArgumentParser, what: str) -> None:
     p.add_argument("--alternative", metavar="ALT",
                    help=f"{what}: its number or label as `check` lists them, or its name "
-                        "(spaces do not matter)")
+                        "(spaces and the order of the options do not matter)")
 
 
 def _add_json(p: argparse.ArgumentParser) -> None:
