@@ -156,12 +156,15 @@ def test_fuel_sink_in_the_lp_matches_the_state_it_reports():
 def _warning_loop(fuel_price: float):
     # H2 lower heating value set to 250 kJ/mol: 0.75 x 250 = 187.5 MJ/kmol of make-up gas,
     # worth 0.1875 GJ/kmol x 16 = 3.0 per kmol at 16 per GJ, its price (all exact in binary)
+    return loop_from_text(_warning_loop_text(fuel_price))
+
+
+def _warning_loop_text(fuel_price: float) -> str:
     body = case_toml(makeup={"H2": 0.75, "N2": 0.24, "Ar": 0.01},
                      liquid_fraction={"NH3": 0.95}, basis="production",
                      component_overrides={"H2": {"lower_heating_value_kj_mol": 250.0}})
     body = body.replace("price_per_kmol = 2.0", "price_per_kmol = 3.0")
-    body = body.replace("[economics]\n", f"[economics]\nfuel_price_per_gj = {fuel_price!r}\n")
-    return loop_from_text(body)
+    return body.replace("[economics]\n", f"[economics]\nfuel_price_per_gj = {fuel_price!r}\n")
 
 
 def test_fuel_value_warning_raised_exactly_when_the_fuel_value_reaches_the_price():
@@ -306,3 +309,28 @@ def test_loop_pressure_above_the_factor_range_is_refused():
     with pytest.raises(CaseError) as err:
         parse_case_text(text(reactor=reactor, pressure_bar=1200.0))
     assert err.value.path == "loop.pressure_bar"
+
+
+# ---------------------------------------------------------------------------
+# the workbook carries the new lines and the warnings (structure; the recalculated
+# values are checked against the engine in tests/test_workbook.py on the demo)
+
+
+def test_workbook_formulas_name_the_new_assumptions_and_show_the_warnings():
+    from purgeplan.output import workbook
+    from purgeplan.study import run_study
+
+    body = _warning_loop_text(20.0).replace(
+        "[economics]\n", "[economics]\nco2_price_per_t = 50.0\ncatalyst_price_per_m3 = 1.0e4\n")
+    body = body.replace("[reactor]\n", "[reactor]\nvessel_diameter_m = 2.0\n"
+                                       "capital_reference_pressure_bar = 120.0\n")
+    study = run_study(parse_case_text(body), "sha", sensitivity_alternatives=0)
+    wb = workbook.build_workbook(study)
+    assert {"co2_price_per_t", "reactor_pressure_factor"} <= set(wb.defined_names)
+    ws = wb[workbook.COSTS]
+    rows = {r[6].value: r for r in ws.iter_rows(min_row=3, max_col=7) if r[6].value}
+    assert rows["reactor_capital"][4].value.endswith("*reactor_pressure_factor")
+    assert "catalyst_life_years" in rows["catalyst_replacement"][4].value
+    assert rows["co2_emissions"][4].value.startswith("=C")
+    warnings = [r[2].value for r in ws.iter_rows(min_row=3, max_col=3) if r[0].value == "Warnings"]
+    assert warnings and warnings[0].startswith("make-up gas 'gas': fuel value")

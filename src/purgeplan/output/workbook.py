@@ -462,7 +462,8 @@ def _cost_block(ws: Worksheet, row: int, alt: Alternative, refs: _Refs, cur: str
     _text(ws, row, 1, "Memo, not included in TAC: value of reactant lost with the purge "
                       "and the liquid product", wrap=True)
     _number(ws, row, 5, state.lost_reactant_memo_per_year, FMT_MONEY).font = Font(italic=True)
-    _text(ws, row, 6, "already paid for through the make-up gas price; at the case prices")
+    _text(ws, row, 6, "already paid for through the make-up gas price; each reactant at its "
+                      "own source price, at the case prices")
     row += 1
     _text(ws, row, 1, "Binding constraints")
     _text(ws, row, 3, ", ".join(alt.optimum.binding_constraints) or "none")
