@@ -64,7 +64,8 @@ def add_limits(m: pyo.ConcreteModel, loop: Loop, q: dict) -> None:
 
     q_limit <= bound q_per + r  (or >= for a lower bound), with the relaxation r
     (``m.limit_relaxation``) zero except while the inner fixed point of the
-    solve layer is still moving the per-pass conversion.
+    solve layer is still moving the per-pass conversion; a limit with
+    ``relaxed`` False (an inlet ratio the blend holds) is never relaxed.
     """
     m.limit_relaxation = pyo.Param(mutable=True, initialize=0.0)
     table = {lim.name: lim for lim in limits.state_limits(loop)}
