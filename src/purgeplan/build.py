@@ -91,7 +91,8 @@ def _recompression(case: Case, sources: list[Source], data: Mapping[str, Compone
     """How the recovery return is recompressed to loop pressure, and its work [kJ/kmol].
 
     The work is isentropic, with the heat-capacity ratio of the gas the unit
-    returns from the make-up gas's composition (the return's composition
+    returns from the make-up gas's composition (the mean of the make-up
+    sources, each counted once; the return's composition
     from the loop gas varies with the state; the ratio barely does, since the
     return is mostly the reactant the unit recovers).  Through the make-up
     compressor, the return joins at the stage whose suction suits it (stage
@@ -105,9 +106,10 @@ def _recompression(case: Case, sources: list[Source], data: Mapping[str, Compone
     unit = case.recovery_units[rec]
     loop_p, p_ret = case.loop.pressure_bar, unit.return_pressure_bar
     makeup = [s for s in sources if s.enters == "makeup"]
-    gas = {c: y * unit.return_fraction.get(c, 0.0) for c, y in makeup[0].composition.items()}
+    mean = {c: sum(s.composition[c] for s in makeup) / len(makeup) for c in makeup[0].composition}
+    gas = {c: y * unit.return_fraction.get(c, 0.0) for c, y in mean.items()}
     if sum(gas.values()) <= 0.0:
-        gas = dict(makeup[0].composition)
+        gas = mean
     gas = {c: y for c, y in gas.items() if y > 0.0}
     if unit.recompression == "makeup_compressor":
         first = min(makeup, key=lambda s: case.sources[s.name].supply_pressure_bar)
