@@ -9,9 +9,13 @@ The public names below are imported on first use, so that the command line
 starts quickly.
 """
 
+import logging
 from importlib import import_module
 
 __version__ = "0.1.0"
+
+# Library code logs; only an application decides where the messages go.
+logging.getLogger(__name__).addHandler(logging.NullHandler())
 
 _PUBLIC = {
     "Case": "case", "expand_alternatives": "case", "load_case": "case",

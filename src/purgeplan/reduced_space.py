@@ -34,6 +34,11 @@ from .fixed_point import converge, initial_conversions
 from .loop import Loop
 from .results import LoopState, costing, make_state
 
+#: Relative move of a capital line's size (or of the fuel sink's kmol per GJ) below
+#: which its tangent in the LP is not moved: the LP's choice then errs in TAC only at
+#: second order in the move, far below the search's tolerance [-].
+TANGENT_TOLERANCE = 1e-6
+
 ROUTE_DIRECT = "direct linear solve"
 ROUTE_HIGHS = "HiGHS LP"
 
@@ -210,7 +215,7 @@ class LoopLP:
                 continue
             size = max(state.quantities[line.quantity],
                        1e-6 * table[f"{line.capital}_reference_size"])
-            if abs(size - self.sizes.get(line.key, 0.0)) <= 1e-9 * size:
+            if abs(size - self.sizes.get(line.key, 0.0)) <= TANGENT_TOLERANCE * size:
                 continue
             moved = True
             value = costs.exact_capital(line, size, table)
@@ -227,7 +232,7 @@ class LoopLP:
         q = state.quantities
         kappa = q["disposal_kmol_h"] / q["disposal_heat_gj_h"] if q["disposal_heat_gj_h"] else 0.0
         param = self.model.disposal_kmol_per_gj
-        if abs(kappa - param.value) <= 1e-12 * max(kappa, 1e-300):
+        if abs(kappa - param.value) <= TANGENT_TOLERANCE * max(kappa, 1e-300):
             return False
         param.value = kappa
         return True
@@ -257,12 +262,20 @@ class LoopLP:
         return state
 
     def _evaluate(self, key: tuple, x: dict, enforce_limits: bool) -> LoopState | None:
+        """Steps 1 to 3.  An LP with freedom starts with its limits in force; only if
+        that LP is infeasible on the way are they relaxed until the conversion
+        settles, then put back in force."""
         purge_fraction = key[0]
+        relaxed = self.square or not enforce_limits
+        was_relaxed = relaxed
         if self.use_highs:
-            self.model.limit_relaxation = 1e15
-        relaxed = True
+            self.model.limit_relaxation = 1e15 if relaxed else 0.0
         for _ in range(self.max_iterations):
             state = self._converge(purge_fraction, x)
+            if state is None and not was_relaxed:
+                self.model.limit_relaxation = 1e15
+                relaxed = was_relaxed = True
+                continue
             if state is None:
                 self.states[key] = None
                 return None

@@ -511,7 +511,7 @@ def run_study(case: Case, case_sha256: str, *, jobs: int = 1, client=None,
     tick = (lambda stage, total: (lambda n: progress(stage, n, total))) if progress else (
         lambda stage, total: None)
     tasks = [Task(("base", a.name), a.loop, time_limit_s) for a in alts]
-    done = run_tasks(tasks, jobs, client, tick("optimising alternatives", len(tasks)))
+    done = run_tasks(tasks, jobs, client, tick("optimizing alternatives", len(tasks)))
     for a in alts:
         a.optimum = done[("base", a.name)]
         a.optimum.name = a.name
