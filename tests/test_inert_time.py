@@ -193,9 +193,21 @@ def test_json_carries_the_hours(loop_and_state):
     loop, _ = loop_and_state
     opt = optimise(loop, details=False)
     rec = alternative_record("x", loop, opt)
-    assert set(rec["time_to_inert_limit_h"]) == {"purge_closed", "recovery_down"}
-    assert rec["time_to_inert_limit_h"] == {k: (None if v is None or math.isinf(v) else v)
-                                            for k, v in opt.time_to_inert_limit_h.items()}
+    hours = rec["time_to_inert_limit_h"]
+    assert set(hours) == {"purge_closed", "recovery_down", "never_reached"}
+    for k, v in opt.time_to_inert_limit_h.items():
+        assert hours[k] == (None if v is None or math.isinf(v) else v)
+        assert (k in hours["never_reached"]) == (v is not None and math.isinf(v))
+
+
+def test_json_names_the_events_that_never_reach_the_limit(loop_and_state):
+    import dataclasses
+
+    loop, _ = loop_and_state
+    loose = dataclasses.replace(loop, max_inert_fraction_reactor_inlet=0.5)
+    opt = optimise(loose, details=False)
+    hours = alternative_record("x", loose, opt)["time_to_inert_limit_h"]
+    assert hours["recovery_down"] is None and "recovery_down" in hours["never_reached"]
 
 
 def test_a_volume_is_taken_at_loop_pressure_and_separator_temperature():

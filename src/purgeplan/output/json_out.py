@@ -41,6 +41,17 @@ def _clean(x):
     return x
 
 
+def _hours_to_limit(hours: dict) -> dict:
+    """Hours to the inert limit; null where it does not apply or is never reached.
+
+    ``never_reached`` names the events after which the inert fraction settles
+    below the limit (their hours are null too).
+    """
+    out = {k: hours.get(k) for k in ("purge_closed", "recovery_down")}
+    out["never_reached"] = [k for k, v in out.items() if v is not None and math.isinf(v)]
+    return out
+
+
 def alternative_record(name: str, loop: Loop, opt: Optimum, choices: dict | None = None,
                        rank: int | None = None) -> dict:
     """One alternative's result as plain JSON-ready data."""
@@ -56,7 +67,7 @@ def alternative_record(name: str, loop: Loop, opt: Optimum, choices: dict | None
                                       "tac_per_year", "cost_per_tonne_product")})
         rec.update(costs={}, reactions=[], streams={}, binding_constraints=[], curve=[],
                    warnings=price_warnings(loop), inlet_ratio={},
-                   time_to_inert_limit_h={"purge_closed": None, "recovery_down": None})
+                   time_to_inert_limit_h=_hours_to_limit({}))
         return _clean(rec)
     rec.update({
         "purge_fraction": s.purge_fraction,
@@ -80,7 +91,7 @@ def alternative_record(name: str, loop: Loop, opt: Optimum, choices: dict | None
                               for name, pc in stream_conditions(loop).items()},
         "quantities": dict(s.quantities),
         "inlet_ratio": dict(s.inlet_ratio),
-        "time_to_inert_limit_h": dict(opt.time_to_inert_limit_h),
+        "time_to_inert_limit_h": _hours_to_limit(opt.time_to_inert_limit_h),
         "balance_error": s.balance_error,
         "binding_constraints": list(opt.binding_constraints),
         "curve": [dataclasses.asdict(point) for point in opt.curve],
