@@ -306,6 +306,16 @@ class LoopLP:
         """Worst limit margin at a purge fraction, where known (LP with no freedom left)."""
         return self.margins.get((purge_fraction, None))
 
+    def start_from(self, other: LoopLP) -> None:
+        """Take the converged conversions, secant slopes and recycle work of a solver of
+        the same alternative as starting points (they change only where to start)."""
+        if len(other.loop.reactions) != len(self.loop.reactions):
+            return
+        self.converged = list(other.converged)
+        self.conversion = dict(other.conversion)
+        self.slopes = dict(other.slopes)
+        self.work = other.work if self.use_highs else None
+
     # -- other prices on the same physics ------------------------------------
     def can_reprice(self, loop: Loop) -> bool:
         """Whether ``loop`` differs from this one only in prices and efficiencies.

@@ -140,8 +140,9 @@ def optimise(loop: Loop, *, scan_points: int = SCAN_POINTS, xtol_rel: float = 1e
     time_limit_s : float, optional
         Wall-clock limit for this alternative [s]; past it the alternative fails.
     reuse : LoopLP, optional
-        A solver of the same loop at other prices: its converged states are
-        re-costed instead of solved again where :meth:`LoopLP.can_reprice`.
+        A solver of the same alternative at other prices or assumptions: its
+        converged states are re-costed instead of solved again where
+        :meth:`LoopLP.can_reprice`, and otherwise give the starting conversions.
     route : {"auto", "highs"}
         See :class:`purgeplan.reduced_space.LoopLP`.
 
@@ -162,6 +163,8 @@ def optimise(loop: Loop, *, scan_points: int = SCAN_POINTS, xtol_rel: float = 1e
         else:
             solver = LoopLP(loop, time_limit_s=time_limit_s, solver_options=solver_options,
                             route=route)
+            if reuse is not None:
+                solver.start_from(reuse)
         solves_before = solver.solves
         f, inner = _objective(loop, solver, xtol_rel)
         margin = None if loop.sized_reaction is not None else solver.margin

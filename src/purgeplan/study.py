@@ -156,7 +156,8 @@ def run_task(task: Task) -> tuple[tuple, Optimum | VariantOptima]:
         return task.key, optimise(task.loop, time_limit_s=task.time_limit_s,
                                   details=task.details)
     solver = LoopLP(task.loop)
-    # the base optimum again, in this worker, so that its converged states can be re-priced
+    # the base optimum again, in this worker: its converged states are re-priced (an LP with
+    # no freedom left) or serve as the starting point of each variant's search
     optimise(task.loop, details=False, reuse=solver)
     return task.key, VariantOptima({key: optimise(loop, details=False, reuse=solver,
                                                   time_limit_s=task.time_limit_s)
