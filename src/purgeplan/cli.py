@@ -555,6 +555,7 @@ def _table(rows: list[_Row], currency: str, *, ranked: bool) -> list[str]:
                 out += textwrap.wrap(f"{c.below}: {c.cells[i]}", width,
                                      initial_indent=" " * min(indent, 8),
                                      subsequent_indent=" " * min(indent + 2, 10))
+        out += _indented(_report_lines(row.loop, row.opt), 2, width)
     out += _violations(rows, width)
     return out + [line for text in legend for line in textwrap.wrap(text, width)]
 
@@ -648,6 +649,61 @@ def _limit_lines(loop, state) -> list[str]:
             verdict = "met"
         lines.append(f"{verdict}: {limits.describe(limit, q)}")
     return lines or ["no state limits set"]
+
+
+def _ratio_hold(loop, name: str) -> str:
+    """How the loop holds a reactor-inlet ratio: its bounds, the direct feed, or not at all."""
+    for num, den, value in loop.inlet_ratios:
+        if f"{num}/{den}" == name:
+            return f"fixed at {value:g} by the direct feed rate"
+    for r in loop.ratio_limits:
+        if r.name == name:
+            if r.min_ratio is not None and r.max_ratio is not None:
+                return f"held between {r.min_ratio:g} and {r.max_ratio:g}"
+            if r.min_ratio is not None:
+                return f"held at {r.min_ratio:g} or above"
+            return f"held at {r.max_ratio:g} or below"
+    return "not held"
+
+
+def _hours_text(hours: float) -> str:
+    import math
+
+    return "never (settles below the limit)" if math.isinf(hours) else f"{hours:,.1f} h"
+
+
+#: What the hours to the inert limit need from the case.
+INERT_LIMIT_NEEDS = "needs a loop gas inventory, an inert limit and inerts in the feed"
+
+#: The events of the time to the inert limit, by their key in the results.
+INERT_LIMIT_EVENTS = (("purge_closed", "purge closed"), ("recovery_down", "recovery unit down"))
+
+
+def _report_lines(loop, opt) -> list[str]:
+    """Under an alternative: its warnings, inlet ratios and hours to the inert limit."""
+    state = opt.state
+    if state is None:
+        return []
+    lines = [f"warning: {w}" for w in state.warnings]
+    for name, value in state.inlet_ratio.items():
+        lines.append(f"inlet ratio {name} {value:.3f} ({_ratio_hold(loop, name)})")
+    hours = opt.time_to_inert_limit_h or {}
+    events = [f"{label} {_hours_text(hours[key])}" if key == "purge_closed" else
+              f"{label}: {_hours_text(hours[key])}"
+              for key, label in INERT_LIMIT_EVENTS if hours.get(key) is not None]
+    if events:
+        lines.append("hours to the inert limit: " + "; ".join(events))
+    elif hours:
+        lines.append(f"hours to the inert limit: n/a ({INERT_LIMIT_NEEDS})")
+    return lines
+
+
+def _indented(lines: list[str], indent: int, width: int) -> list[str]:
+    out = []
+    for text in lines:
+        out += textwrap.wrap(text, width, initial_indent=" " * indent,
+                             subsequent_indent=" " * (indent + 2), break_on_hyphens=False)
+    return out
 
 
 def _per_pass_text(loop, state) -> str:
@@ -790,6 +846,7 @@ def cmd_check(args) -> int:
                 f"balance error {s.balance_error:.1e}"], 5, out)
         for line in _limit_lines(lp, s):
             _wrapped(line, 5, out)
+        _print(_indented(_report_lines(lp, opt), 5, _width()), out)
     failed = any(o.status in (Status.FAILED, Status.TIME_LIMIT) for o in optima)
     stateless = sum(o.state is None and o.status is Status.INFEASIBLE for o in optima)
     if stateless:

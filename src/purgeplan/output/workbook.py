@@ -92,6 +92,8 @@ FMT_FACTOR = "0.00"
 FMT_FACTOR_APPLIED = "0.0000"
 FMT_PERCENT = "0.000"
 FMT_CRF = "0.0000000"
+FMT_RATIO = "0.000"
+FMT_HOURS = "#,##0.0"
 
 MAX_CELL_TEXT = 32767
 _FORMULA_START = ("=", "+", "-", "@", "\t", "\r", "\n")
@@ -470,7 +472,64 @@ def _cost_block(ws: Worksheet, row: int, alt: Alternative, refs: _Refs, cur: str
     row += 1
     _text(ws, row, 1, "Warnings")
     _text(ws, row, 3, "; ".join(state.warnings) or "none", wrap=True)
-    return row + 1
+    row = _ratio_rows(ws, row + 1, alt)
+    return _inert_limit_rows(ws, row, alt)
+
+
+def _ratio_hold(loop, name: str) -> str:
+    """How the loop holds a reactor-inlet ratio: its bounds, the direct feed, or not at all."""
+    for num, den, value in loop.inlet_ratios:
+        if f"{num}/{den}" == name:
+            return f"fixed at {value:g} by the direct feed rate"
+    for r in loop.ratio_limits:
+        if r.name == name:
+            if r.min_ratio is not None and r.max_ratio is not None:
+                return f"held between {r.min_ratio:g} and {r.max_ratio:g}"
+            if r.min_ratio is not None:
+                return f"held at {r.min_ratio:g} or above"
+            return f"held at {r.max_ratio:g} or below"
+    return "not held"
+
+
+def _ratio_rows(ws: Worksheet, row: int, alt: Alternative) -> int:
+    """A row per reactor-inlet ratio: its value and how it is held; returns the next row."""
+    for name, value in alt.optimum.state.inlet_ratio.items():
+        _text(ws, row, 1, f"Reactor-inlet ratio {name}")
+        _number(ws, row, 3, value, FMT_RATIO)
+        _text(ws, row, 4, "-")
+        _text(ws, row, 6, _ratio_hold(alt.loop, name))
+        row += 1
+    return row
+
+
+#: The events of the time to the inert limit, by their key in the results.
+INERT_LIMIT_EVENTS = (("purge_closed", "purge closed"),
+                      ("recovery_down", "recovery unit down"))
+
+
+def _inert_limit_rows(ws: Worksheet, row: int, alt: Alternative) -> int:
+    """Hours to the inert limit after each event that applies; returns the next row."""
+    hours = alt.optimum.time_to_inert_limit_h or {}
+    if hours and all(v is None for v in hours.values()):
+        _text(ws, row, 1, "Hours to the inert limit")
+        _text(ws, row, 3, "n/a")
+        _text(ws, row, 4, "h")
+        _text(ws, row, 6, "needs a loop gas inventory, an inert limit and inerts in the feed")
+        return row + 1
+    for key, label in INERT_LIMIT_EVENTS:
+        value = hours.get(key)
+        if value is None:
+            continue
+        _text(ws, row, 1, f"Hours to the inert limit, {label}")
+        if math.isinf(value):
+            _text(ws, row, 3, "never")
+            _text(ws, row, 6, "the inert level settles below the limit")
+        else:
+            _number(ws, row, 3, value, FMT_HOURS)
+            _text(ws, row, 6, "from the optimum, production held")
+        _text(ws, row, 4, "h")
+        row += 1
+    return row
 
 
 # ---------------------------------------------------------------------------
