@@ -322,3 +322,87 @@ def test_lost_reactant_memo_grows_with_the_purge(fuel_loop):
             _memo_by_hand(fuel_loop, state)[0], rel=1e-9)
     assert large.lost_reactant_memo_per_year > small.lost_reactant_memo_per_year
     assert math.isfinite(large.lost_reactant_memo_per_year)
+
+
+# ---------------------------------------------------------------------------
+# the assumptions and lines as the workbook shows them
+
+
+def test_assumption_units_labels_and_sources(fuel_loop, recovery_loop):
+    """Each assumption's unit and label: the currency is the case default (EUR), sizes
+    in the unit of their capacity-scaling law (kW for compressors, m3 for the reactor,
+    kmol/h of purge treated for the recovery unit)."""
+    expected = {
+        "hours_per_year": ("h/year", "Hours on stream per year"),
+        "discount_rate": ("-", "Discount rate"),
+        "life_years": ("year", "Economic life"),
+        "cost_index_ratio": ("-", "Cost index now / cost index of reference costs"),
+        "power_price_per_kwh": ("EUR/kWh", "Power price"),
+        "fuel_price_per_gj": ("EUR/GJ", "Fuel value of purge gas (LHV basis)"),
+        "flare_cost_per_kmol": ("EUR/kmol", "Flaring cost of purge gas"),
+        "product_price_per_t": ("EUR/t", "Product price"),
+        "catalyst_price_per_m3": ("EUR/m3", "Catalyst price"),
+        "catalyst_life_years": ("year", "Catalyst life"),
+        "price_per_kmol:gas": ("EUR/kmol", "Price of gas"),
+        "compressor_reference_cost": ("EUR", "Compressor reference installed cost"),
+        "compressor_reference_size": ("kW", "Compressor reference size"),
+        "compressor_exponent": ("-", "Compressor capacity exponent"),
+        "reactor_reference_cost": ("EUR", "Reactor reference installed cost"),
+        "reactor_reference_size": ("m3", "Reactor reference size"),
+        "reactor_exponent": ("-", "Reactor capacity exponent"),
+    }
+    recovery = {
+        "recovery_operating_cost_per_kmol": (
+            "EUR/kmol", "Recovery unit operating cost per kmol of purge treated"),
+        "recovery_reference_cost": ("EUR", "Recovery reference installed cost"),
+        "recovery_reference_size": ("kmol/h", "Recovery reference size"),
+        "recovery_exponent": ("-", "Recovery capacity exponent"),
+    }
+    for loop, table in ((fuel_loop, expected), (recovery_loop, {**expected, **recovery})):
+        got = costs.assumptions(loop)
+        assert {k: (a.unit, a.label) for k, a in got.items() if k in table} == table
+        assert {a.source for a in got.values()} == {"case file"}
+
+
+def _line(key, label, kind, quantity, unit, **kw):
+    return costs.CostLine(key, label, kind, quantity, unit, **kw)
+
+
+COMMON_LINES = [
+    _line("feed:gas", "Feed: gas", "hourly", "source_kmol_h:gas", "kmol/h",
+          price="price_per_kmol:gas"),
+    _line("recycle_power", "Recycle compression power", "hourly",
+          "recycle_compressor_power_kw", "kW", price="power_price_per_kwh"),
+    _line("makeup_power", "Make-up compression power", "hourly",
+          "makeup_compressor_power_kw", "kW", price="power_price_per_kwh"),
+    _line("recycle_compressor_capital", "Recycle compressor capital (annualised)", "capital",
+          "recycle_compressor_power_kw", "kW", capital="compressor"),
+    _line("makeup_compressor_capital", "Make-up compressor capital (annualised)", "capital",
+          "makeup_compressor_power_kw", "kW", capital="compressor"),
+    _line("reactor_capital", "Reactor and catalyst capital (annualised)", "capital",
+          "reactor_volume_m3", "m3", capital="reactor"),
+    _line("catalyst_replacement", "Catalyst replacement", "replacement", "reactor_volume_m3",
+          "m3", price="catalyst_price_per_m3", life="catalyst_life_years"),
+]
+FUEL_CREDIT = _line("purge_fuel_credit", "Purge gas fuel credit", "hourly",
+                    "disposal_heat_gj_h", "GJ/h", price="fuel_price_per_gj", sign=-1.0)
+PRODUCT_VALUE = _line("product_value", "Product value", "hourly", "product_t_h", "t/h",
+                      price="product_price_per_t", sign=-1.0)
+
+
+def test_every_field_of_the_cost_lines(fuel_loop, flare_loop, recovery_loop):
+    """What each line prices, in which unit, with which sign: a credit (the fuel value of
+    the purge gas, the product sold) is negative."""
+    assert costs.cost_lines(fuel_loop) == [*COMMON_LINES, FUEL_CREDIT, PRODUCT_VALUE]
+    assert costs.cost_lines(flare_loop) == [
+        *COMMON_LINES,
+        _line("purge_flaring", "Purge gas flaring", "hourly", "disposal_kmol_h", "kmol/h",
+              price="flare_cost_per_kmol"),
+        PRODUCT_VALUE]
+    assert costs.cost_lines(recovery_loop) == [
+        *COMMON_LINES,
+        _line("recovery_capital", "Recovery unit capital (annualised)", "capital",
+              "recovery_feed_kmol_h", "kmol/h", capital="recovery"),
+        _line("recovery_operation", "Recovery unit operation", "hourly",
+              "recovery_feed_kmol_h", "kmol/h", price="recovery_operating_cost_per_kmol"),
+        FUEL_CREDIT, PRODUCT_VALUE]

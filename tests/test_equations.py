@@ -187,3 +187,96 @@ def test_no_makeup_power_when_supplied_at_loop_pressure():
     assert loop.sources[0].compression_work_kj_kmol == 0.0
     q = equations.quantities(_variables(loop), loop, RECYCLE_WORK_KJ_KMOL, VOLUME_PER_FEED)
     assert q["makeup_compressor_power_kw"] == 0.0
+
+
+# ---------------------------------------------------------------------------
+# residuals of the equation families on hand-made flows (a direct feed of pure H2)
+
+
+def _side_feed_variables(loop):
+    """Make-up gas 1100 kmol/h, side feed 200 kmol/h of H2; the flows below are off the
+    balances by hand-set amounts, so each residual is a number to recompute."""
+    flow = {(s, c): 0.0 for s in loop.streams for c in COMPONENTS}
+    flow.update({("makeup", "H2"): 800.0, ("makeup", "N2"): 270.0, ("makeup", "Ar"): 9.0,
+                 ("makeup", "CH4"): 13.0, ("direct_feed", "H2"): 190.0,
+                 ("recycle", "H2"): 2400.0, ("recycle", "N2"): 830.0,
+                 ("reactor_feed", "H2"): 3400.0, ("reactor_feed", "N2"): 1100.0})
+    return LoopVariables(flow=flow, extent=[0.0], source={"gas": 1100.0, "side": 200.0},
+                         purge_fraction=0.02, conversion={0: 0.25})
+
+
+@pytest.fixture(scope="module")
+def side_feed_loop():
+    return loop_from_text(conditions_text(side_feed=True))
+
+
+def test_blend_residuals_with_a_direct_feed(side_feed_loop):
+    got = dict(equations.makeup_blend(_side_feed_variables(side_feed_loop), side_feed_loop))
+    # make-up: flow - 1100 x composition (0.735 H2, 0.245 N2, 0.008 Ar, 0.012 CH4)
+    expected = {("makeup", "H2"): 800.0 - 808.5, ("makeup", "N2"): 270.0 - 269.5,
+                ("makeup", "Ar"): 9.0 - 8.8, ("makeup", "CH4"): 13.0 - 13.2,
+                ("makeup", "NH3"): 0.0,
+                # direct feed: 190 - 200 x 1.0 of H2; nothing else in the side feed
+                ("direct_feed", "H2"): -10.0}
+    expected.update({("direct_feed", c): 0.0 for c in ("Ar", "CH4", "N2", "NH3")})
+    assert got == pytest.approx(expected, abs=1e-9)
+
+
+def test_mixer_and_inlet_ratio_residuals_with_a_direct_feed(side_feed_loop):
+    v = _side_feed_variables(side_feed_loop)
+    mixer = dict(equations.mixer_balance(v, side_feed_loop))
+    # reactor feed - (make-up + direct feed + recycle): H2 3400 - (800 + 190 + 2400) = 10,
+    # N2 1100 - (270 + 830) = 0, Ar 0 - 9, CH4 0 - 13
+    assert mixer == pytest.approx({"H2": 10.0, "N2": 0.0, "Ar": -9.0, "CH4": -13.0,
+                                   "NH3": 0.0}, abs=1e-9)
+    # H2 = 3 N2 at the reactor inlet: 3400 - 3 x 1100 = 100
+    assert dict(equations.inlet_ratio(v, side_feed_loop)) == pytest.approx({0: 100.0},
+                                                                           abs=1e-9)
+
+
+def test_extent_residual_of_a_key_reactant_with_a_coefficient_of_three():
+    # key reactant H2 (coefficient 3): xi - X M_H2 / 3 = 250 - 0.25 x 3000 / 3 = 0
+    loop = loop_from_text(case_toml(makeup=MAKEUP, liquid_fraction=LIQUID, key_reactant="H2"))
+    flow = {(s, c): HAND_FLOWS.get(s, {}).get(c, 0.0) for s in loop.streams for c in COMPONENTS}
+    v = LoopVariables(flow=flow, extent=[250.0], source={"gas": 1100.0}, purge_fraction=0.02,
+                      conversion={0: 0.25})
+    assert dict(equations.reaction_extent(v, loop)) == pytest.approx({0: 0.0}, abs=1e-9)
+
+
+def test_equation_indices_name_each_residual(recovery_loop):
+    """The index of each residual names it (it is the Pyomo constraint's index)."""
+    v = _variables(recovery_loop)
+    comps = recovery_loop.components
+
+    def indices(family):
+        return [k for k, _ in family(v, recovery_loop)]
+
+    assert indices(equations.separator_split) == [
+        k for c in comps for k in (("liquid", c), ("vapour", c))]
+    assert indices(equations.purge_split) == [
+        k for c in comps for k in (("purge", c), ("recycle", c))]
+    assert indices(equations.recovery_split) == [
+        k for c in comps for k in (("return", c), ("tail", c))]
+    assert indices(equations.basis) == ["makeup"]
+    production = loop_from_text(case_toml(makeup=MAKEUP, liquid_fraction=LIQUID,
+                                          basis="production"))
+    assert [k for k, _ in equations.basis(_variables(production), production)] == [
+        "production"]
+
+
+def test_makeup_power_of_a_small_compression_work(loop):
+    # 0.5 kJ/kmol (supply just below loop pressure): 1100 x 0.5 / 3600 / 0.8 = 0.19097 kW
+    source = dataclasses.replace(loop.sources[0], compression_work_kj_kmol=0.5)
+    small = dataclasses.replace(loop, sources=(source,))
+    q = equations.quantities(_variables(small), small, RECYCLE_WORK_KJ_KMOL, VOLUME_PER_FEED)
+    assert q["makeup_compressor_power_kw"] == pytest.approx(1100.0 * 0.5 / 3600.0 / 0.8,
+                                                            rel=1e-12)
+
+
+def test_purge_heat_of_a_component_with_a_small_heating_value():
+    # argon given 0.5 kJ/mol: (50 x 242 + 1.2 x 316.8 + 6 x 802.7 + 4 x 0.5) / 1000 GJ/h
+    overrides = dict(OVERRIDES, Ar={"lower_heating_value_kj_mol": 0.5})
+    loop = loop_from_text(case_toml(makeup=MAKEUP, liquid_fraction=LIQUID,
+                                    component_overrides=overrides))
+    q = equations.quantities(_variables(loop), loop, RECYCLE_WORK_KJ_KMOL, VOLUME_PER_FEED)
+    assert q["disposal_heat_gj_h"] == pytest.approx(17.29836, rel=1e-12)

@@ -195,3 +195,50 @@ def test_inert_limit_on_a_solved_state(limited_loop):
                   if lim.name == "supply_limit_kmol_h:gas")
     assert limits.margin(supply, state.quantities) == pytest.approx(1000.0 / 1200.0 - 1.0,
                                                                     rel=1e-12)
+
+
+def test_loop_limits_labels_and_units(limited_loop):
+    """What a report says of each limit: its label and the unit of its bound."""
+    got = [(lim.name, lim.label, lim.unit) for lim in limits.loop_limits(limited_loop)]
+    assert got == [
+        ("max_inert_fraction_reactor_inlet", "the inert limit at the reactor inlet", "-"),
+        ("max_recycle_power_kw", "the recycle compressor power limit", "kW"),
+        ("supply_limit_kmol_h:gas", "the supply limit of 'gas'", "kmol/h"),
+        ("purge_fraction_min", "the smallest purge fraction allowed", "-"),
+        ("purge_fraction_max", "the largest purge fraction allowed", "-"),
+    ]
+
+
+SIZED_REACTION = ('per_pass = "sized"\n\n[reactions.sizing]\nreference_conversion = 0.25\n'
+                  "reference_volume_m3 = 60.0\nreference_feed_kmol_h = 5000.0\n"
+                  "equilibrium_conversion = 0.4\nconversion_min = 0.05\nconversion_max = 0.38\n")
+
+
+def test_sized_reactor_adds_its_conversion_box():
+    """A sized reactor's per-pass conversion is a design variable bounded by the case's
+    conversion_min = 0.05 and conversion_max = 0.38, after the purge fraction box."""
+    loop = loop_from_text(case_toml(makeup={"H2": 0.7425, "N2": 0.2475, "Ar": 0.01},
+                                    liquid_fraction={"NH3": 1.0}, reaction=SIZED_REACTION))
+    table = limits.loop_limits(loop)
+    got = [(lim.name, lim.quantity, lim.per, lim.bound, lim.sense, lim.kind, lim.label,
+            lim.unit) for lim in table]
+    assert got[:2] == [
+        ("purge_fraction_min", "purge_fraction", "", loop.purge_fraction_min, "min", "design",
+         "the smallest purge fraction allowed", "-"),
+        ("purge_fraction_max", "purge_fraction", "", loop.purge_fraction_max, "max", "design",
+         "the largest purge fraction allowed", "-")]
+    assert got[2:] == [
+        ("conversion_min", "per_pass_conversion:0", "", 0.05, "min", "design",
+         "the smallest per-pass conversion allowed", "-"),
+        ("conversion_max", "per_pass_conversion:0", "", 0.38, "max", "design",
+         "the largest per-pass conversion allowed", "-")]
+    assert limits.state_limits(loop) == ()
+    # at a per-pass conversion of 0.04 the lower bound is broken by 1 - 0.04 / 0.05 = 0.2
+    q = {"purge_fraction": 0.02, "per_pass_conversion:0": 0.04}
+    assert limits.worst_margin(table, q) == pytest.approx(0.2, rel=1e-12)
+
+
+def test_ratio_limit_below_one_unit_of_denominator_flow():
+    # 0.04 kmol/h of inerts in 0.5 kmol/h of reactor feed: 0.08, however small the loop
+    q = dict(Q, inert_kmol_h_reactor_inlet=0.04, reactor_feed_kmol_h=0.5)
+    assert limits.value(INERT, q) == pytest.approx(0.08, rel=1e-12)

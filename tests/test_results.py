@@ -176,12 +176,10 @@ def test_memo_counts_reactants_only_whatever_the_scale_of_the_stoichiometry():
     assert state.element_balance_error == 0.0
 
 
-def test_no_reactant_bought_prices_the_losses_at_nothing(loop):
-    # the make-up brings argon only: no reactant is bought, so none has a price, and the
-    # H2 and N2 that leave are valued at zero
-    flows = copy.deepcopy(FLOWS)
-    flows["makeup"] = {"H2": 0.0, "N2": 0.0, "Ar": 10.0, "NH3": 0.0}
-    assert state_of(loop, flows).lost_reactant_memo_per_year == 0.0
+def test_no_gas_bought_prices_the_losses_at_nothing(loop):
+    # no make-up gas is bought: no reactant has a price, and the H2 and N2 that leave are
+    # valued at zero
+    assert state_of(loop, sources={"gas": 0.0}).lost_reactant_memo_per_year == 0.0
 
 
 def test_an_empty_loop(loop):

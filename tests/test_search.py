@@ -200,3 +200,117 @@ def test_infeasible_everywhere():
     assert fx == math.inf
     assert len(samples) == 9 == len(calls)
     assert all(v == math.inf for _, v in samples)
+
+
+# ---------------------------------------------------------------------------
+# the bracket around the best grid point, on the 17-point grid of [1e-4, 0.5]:
+# grid[k] = 1e-4 x 5000^(k/16), so grid[10] = 0.02050, grid[11] = 0.03492,
+# grid[15] = 0.2936 and grid[16] = 0.5
+
+
+def test_minimum_between_the_first_two_grid_points():
+    # 9 points: grid[0] = 1e-4, grid[1] = 2.900e-4; the minimum at 2.0e-4 is nearer
+    # grid[1] in log x, so grid[1] is the best grid point and grid[0] the left bracket end
+    x, _, _ = scan_and_refine(log_parabola(2.0e-4), LO, HI, 9, 1e-6)
+    assert x == pytest.approx(2.0e-4, rel=2e-6)
+
+
+def test_minimum_at_an_upper_edge_between_the_last_two_grid_points():
+    f = cut_above(log_parabola(0.9), 0.4)
+    x, _, _ = scan_and_refine(f, LO, HI, 17, 1e-6)
+    assert 0.4 * (1.0 - 2e-6) <= x <= 0.4
+
+
+def test_minimum_at_a_lower_edge_between_the_first_two_grid_points():
+    # edge between grid[0] = 1e-4 and grid[1] = 1.703e-4; feasible up to the box end
+    f = cut_below(log_parabola(1e-5), 1.3e-4)
+    x, _, _ = scan_and_refine(f, LO, HI, 17, 1e-6)
+    assert 1.3e-4 <= x <= 1.3e-4 * (1.0 + 2e-6)
+
+
+def test_minimum_just_inside_an_upper_edge_is_refined():
+    # the edge at 0.0213 lies between grid[10] and grid[11]; the minimum at 0.021 lies
+    # between grid[10] and the edge, where f falls towards it from both sides
+    f = cut_above(log_parabola(0.021), 0.0213)
+    x, _, _ = scan_and_refine(f, LO, HI, 17, 1e-6)
+    assert x == pytest.approx(0.021, rel=2e-6)
+
+
+def test_minimum_beyond_a_lower_edge_is_refined():
+    # the edge at 0.025 lies between grid[10] and grid[11]; f is worse at the edge than at
+    # grid[11] and the minimum at 0.033 lies between them
+    f = cut_below(log_parabola(0.033), 0.025)
+    x, _, _ = scan_and_refine(f, LO, HI, 17, 1e-6)
+    assert x == pytest.approx(0.033, rel=2e-6)
+
+
+@pytest.mark.parametrize("f", [lambda x: x, lambda x: 1.0], ids=["rising", "flat"])
+def test_minimum_at_the_box_end_takes_one_more_point(f):
+    """At the lower box end, f no worse than the grid and not falling one tolerance step
+    inside: the end is the minimum, with no refinement, after 17 + 1 evaluations."""
+    x, _, samples = scan_and_refine(f, LO, HI, 17, 1e-6)
+    assert x == LO
+    assert len(samples) == 18
+    assert samples[1][0] == pytest.approx(LO * math.exp(1e-6), rel=1e-15)
+
+
+def test_refinement_to_the_tolerance_on_a_function_not_parabolic_in_log_x():
+    # f(u) = exp(u - u0) - (u - u0) with u = ln x: minimum 1 at x0 = 0.01, curvature 1
+    # there but not a parabola, so the refinement stops on its tolerance, not on an exact
+    # parabolic step
+    u0 = math.log(0.01)
+    f = lambda x: math.exp(math.log(x) - u0) - (math.log(x) - u0)  # noqa: E731
+    for xtol in (1e-4, 1e-6):
+        x, _, _ = scan_and_refine(f, LO, HI, 17, xtol)
+        assert x == pytest.approx(0.01, rel=2.0 * xtol)
+
+
+# ---------------------------------------------------------------------------
+# feasibility_edge by root or bisection
+
+
+def test_margin_known_on_the_feasible_side_only_uses_bisection():
+    # the margin is unknown (None) where infeasible: no sign change to bracket a root
+    edge = 0.3
+    f = cut_above(lambda x: x, edge)
+    seen_half, seen_none = [], []
+
+    def counted(seen):
+        return lambda x: (seen.append(x), f(x))[1]
+
+    half = feasibility_edge(counted(seen_half), lambda x: x / edge - 1.0 if x <= edge else None,
+                            0.2, 0.4, 1e-8)
+    none = feasibility_edge(counted(seen_none), lambda _x: None, 0.2, 0.4, 1e-8)
+    assert half == none
+    assert seen_half == seen_none
+
+
+def test_margin_unknown_inside_the_bracket_counts_as_infeasible():
+    # the margin is known at both ends but not on (0.3, 0.35): those points count as beyond
+    # the edge, and the root x / 0.3 - 1 = 0 is found
+    edge = 0.3
+    f = cut_above(lambda x: x, edge)
+
+    def margin(x):
+        return None if edge < x < 0.35 else x / edge - 1.0
+
+    x = feasibility_edge(f, margin, 0.2, 0.4, 1e-8)
+    assert edge * (1.0 - 2e-8) <= x <= edge
+
+
+def test_root_infeasible_by_rounding_steps_half_a_tolerance_back():
+    # margin linear in x: Brent's root is exact to 1e-12, infeasible (f is inf at x >= edge),
+    # so the answer is half a tolerance inside: within one tolerance of the edge
+    edge = 0.0213
+    f = lambda x: x if x < edge else math.inf  # noqa: E731
+    x = feasibility_edge(f, lambda x: x / edge - 1.0, 0.02, 0.03, 1e-6)
+    assert edge * (1.0 - 1e-6) <= x < edge
+
+
+def test_edge_before_the_root_of_the_margin_by_bisection():
+    # f is infeasible from 0.0212 on, while the margin's root is at 0.0213: neither the root
+    # nor half a tolerance inside is feasible, so bisection runs between 0.02 and the root
+    edge = 0.0212
+    f = lambda x: x if x < edge else math.inf  # noqa: E731
+    x = feasibility_edge(f, lambda x: x / 0.0213 - 1.0, 0.02, 0.03, 1e-6)
+    assert edge * (1.0 - 2e-6) <= x < edge
