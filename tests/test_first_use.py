@@ -469,12 +469,16 @@ def test_readme_commands_and_exit_statuses_match_the_help(helps):
 
 @pytest.fixture(scope="module")
 def reports():
-    """What `check`, `evaluate` and `optimize` print for the hydrogenation demo."""
+    """What `check`, `evaluate` and `optimize` print for the hydrogenation demo, and
+    `evaluate` for an ammonia alternative with a warning (its H2/N2 ratio is not held)."""
     with ThreadPoolExecutor(2) as pool:
         procs = list(pool.map(lambda argv: run(*argv), [
             ("check", HYDROGENATION), ("evaluate", HYDROGENATION, "--alternative", "1"),
-            ("optimize", HYDROGENATION, "--alternative", "1")]))
-    assert all(p.returncode == 0 for p in procs), [p.stderr for p in procs]
+            ("optimize", HYDROGENATION, "--alternative", "1"),
+            ("evaluate", AMMONIA, "--alternative", "standard, fuel, membrane")]))
+    # the ammonia case's present purge fraction may break its inert limit (exit 3)
+    assert [p.returncode for p in procs[:3]] == [0, 0, 0], [p.stderr for p in procs]
+    assert procs[3].returncode in (0, 3), procs[3].stderr
     return squash(" ".join(p.stdout for p in procs))
 
 
