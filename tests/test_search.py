@@ -286,13 +286,13 @@ def test_margin_known_on_the_feasible_side_only_uses_bisection():
 
 
 def test_margin_unknown_inside_the_bracket_counts_as_infeasible():
-    # the margin is known at both ends but not on (0.3, 0.35): those points count as beyond
-    # the edge, and the root x / 0.3 - 1 = 0 is found
+    # the margin is known at both ends but not on (0.3, 0.4): those points count as beyond
+    # the edge, and the root of (x / 0.3)^3 - 1 is found
     edge = 0.3
     f = cut_above(lambda x: x, edge)
 
     def margin(x):
-        return None if edge < x < 0.35 else x / edge - 1.0
+        return None if edge < x < 0.4 else (x / edge) ** 3 - 1.0
 
     x = feasibility_edge(f, margin, 0.2, 0.4, 1e-8)
     assert edge * (1.0 - 2e-8) <= x <= edge
