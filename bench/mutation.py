@@ -8,6 +8,9 @@ Not part of CI: a full run takes a long while on two cores.  From a clean checko
     python bench/mutation.py --report         # the table of the last run only, no run
     python bench/mutation.py --rerun-survivors   # re-test only the last run's survivors
 
+(mutmut forgets every recorded verdict when ``[tool.mutmut]`` changes the tests it
+selects, so ``--rerun-survivors`` after such a change runs everything again.)
+
 Which files are mutated and which tests run is set in ``[tool.mutmut]`` of
 ``pyproject.toml``: the cost, balance, loop, search, limit and fixed-point modules,
 against the fast test files (the slow CLI, workbook, study, fuzz and reliability
