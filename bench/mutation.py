@@ -7,6 +7,7 @@ Not part of CI: a full run takes a long while on two cores.  From a clean checko
     python bench/mutation.py --survivors      # the same, then the diff of each survivor
     python bench/mutation.py --report         # the table of the last run only, no run
     python bench/mutation.py --rerun-survivors   # re-test only the last run's survivors
+    python bench/mutation.py --modules costs results equations   # those modules only
 
 (mutmut forgets every recorded verdict when ``[tool.mutmut]`` changes the tests it
 selects, so ``--rerun-survivors`` after such a change runs everything again.)
@@ -143,6 +144,8 @@ def main(argv: list[str] | None = None) -> int:
     parser.add_argument("--keep", action="store_true", help="reuse ./mutants and its cache")
     parser.add_argument("--rerun-survivors", action="store_true",
                         help="re-test only the survivors of the last run")
+    parser.add_argument("--modules", nargs="+", metavar="NAME",
+                        help="test only the mutants of these modules (costs, results, ...)")
     parser.add_argument("--max-children", type=int, default=os.cpu_count() or 1)
     args = parser.parse_args(argv)
 
@@ -156,6 +159,8 @@ def main(argv: list[str] | None = None) -> int:
                 return 1
         elif not args.keep:
             shutil.rmtree(ROOT / "mutants", ignore_errors=True)
+        if args.modules and not names:
+            names = [f"purgeplan.{m}.*" for m in args.modules]
         start = time.monotonic()
         code = mutmut("run", "--max-children", str(args.max_children), *names)
         elapsed = time.monotonic() - start
