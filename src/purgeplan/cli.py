@@ -651,21 +651,6 @@ def _limit_lines(loop, state) -> list[str]:
     return lines or ["no state limits set"]
 
 
-def _ratio_hold(loop, name: str) -> str:
-    """How the loop holds a reactor-inlet ratio: its bounds, the direct feed, or not at all."""
-    for num, den, value in loop.inlet_ratios:
-        if f"{num}/{den}" == name:
-            return f"fixed at {value:g} by the direct feed rate"
-    for r in loop.ratio_limits:
-        if r.name == name:
-            if r.min_ratio is not None and r.max_ratio is not None:
-                return f"held between {r.min_ratio:g} and {r.max_ratio:g}"
-            if r.min_ratio is not None:
-                return f"held at {r.min_ratio:g} or above"
-            return f"held at {r.max_ratio:g} or below"
-    return "not held"
-
-
 def _hours_text(hours: float) -> str:
     import math
 
@@ -681,12 +666,14 @@ INERT_LIMIT_EVENTS = (("purge_closed", "purge closed"), ("recovery_down", "recov
 
 def _report_lines(loop, opt) -> list[str]:
     """Under an alternative: its warnings, inlet ratios and hours to the inert limit."""
+    from . import limits
+
     state = opt.state
     if state is None:
         return []
     lines = [f"warning: {w}" for w in state.warnings]
     for name, value in state.inlet_ratio.items():
-        lines.append(f"inlet ratio {name} {value:.3f} ({_ratio_hold(loop, name)})")
+        lines.append(f"inlet ratio {name} {value:.3f} ({limits.ratio_hold(loop, name)})")
     hours = opt.time_to_inert_limit_h or {}
     events = [f"{label} {_hours_text(hours[key])}" if key == "purge_closed" else
               f"{label}: {_hours_text(hours[key])}"

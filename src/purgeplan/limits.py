@@ -133,3 +133,18 @@ def describe(limit: Limit, q: Mapping[str, float]) -> str:
     """A limit against its value in plain words, for reports and diagnoses."""
     unit = "" if limit.unit == "-" else f" {limit.unit}"
     return (f"{limit.label} ({limit.bound:g}{unit}) against {value(limit, q):.4g}{unit}")
+
+
+def ratio_hold(loop: Loop, name: str) -> str:
+    """How the loop holds a reactor-inlet ratio: its bounds, the direct feed, or not at all."""
+    for num, den, value in loop.inlet_ratios:
+        if f"{num}/{den}" == name:
+            return f"fixed at {value:g} by the direct feed rate"
+    for r in loop.ratio_limits:
+        if r.name == name:
+            if r.min_ratio is not None and r.max_ratio is not None:
+                return f"held between {r.min_ratio:g} and {r.max_ratio:g}"
+            if r.min_ratio is not None:
+                return f"held at {r.min_ratio:g} or above"
+            return f"held at {r.max_ratio:g} or below"
+    return "not held"

@@ -38,7 +38,7 @@ from openpyxl.utils import get_column_letter, quote_sheetname
 from openpyxl.workbook.defined_name import DefinedName
 from openpyxl.worksheet.worksheet import Worksheet
 
-from .. import costs
+from .. import costs, limits
 from ..cautions import CAUTIONS
 from ..equations import stream_conditions
 from ..study import Alternative, StudyResult
@@ -476,28 +476,13 @@ def _cost_block(ws: Worksheet, row: int, alt: Alternative, refs: _Refs, cur: str
     return _inert_limit_rows(ws, row, alt)
 
 
-def _ratio_hold(loop, name: str) -> str:
-    """How the loop holds a reactor-inlet ratio: its bounds, the direct feed, or not at all."""
-    for num, den, value in loop.inlet_ratios:
-        if f"{num}/{den}" == name:
-            return f"fixed at {value:g} by the direct feed rate"
-    for r in loop.ratio_limits:
-        if r.name == name:
-            if r.min_ratio is not None and r.max_ratio is not None:
-                return f"held between {r.min_ratio:g} and {r.max_ratio:g}"
-            if r.min_ratio is not None:
-                return f"held at {r.min_ratio:g} or above"
-            return f"held at {r.max_ratio:g} or below"
-    return "not held"
-
-
 def _ratio_rows(ws: Worksheet, row: int, alt: Alternative) -> int:
     """A row per reactor-inlet ratio: its value and how it is held; returns the next row."""
     for name, value in alt.optimum.state.inlet_ratio.items():
         _text(ws, row, 1, f"Reactor-inlet ratio {name}")
         _number(ws, row, 3, value, FMT_RATIO)
         _text(ws, row, 4, "-")
-        _text(ws, row, 6, _ratio_hold(alt.loop, name))
+        _text(ws, row, 6, limits.ratio_hold(alt.loop, name))
         row += 1
     return row
 
