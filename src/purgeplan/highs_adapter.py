@@ -9,8 +9,16 @@ source-blend loop this is about three times faster than ``solve()`` per
 re-solve, because Pyomo's per-solve output capture and result objects are
 skipped.  That route relies on two attributes the interface does not
 document (its ``highspy.Highs`` instance and its variable map); where either
-is missing, every solve falls back to ``solve()``.  The tests run both routes
-on the same model and compare.
+is missing, every solve falls back to ``solve()``.
+
+Of what is left, most of the time went into ``update()`` evaluating each
+mutable coefficient's Pyomo expression through the generic expression
+walker.  :class:`ParameterPush` compiles those expressions once into one
+Python function of the parameter values and pushes the changed numbers
+into HiGHS itself; it reads the interface's table of mutable coefficients,
+a third undocumented attribute, and where that table is missing or holds
+a kind of entry it does not know, re-solves use the public ``update()``.
+The tests run every route on the same model and compare.
 
 HiGHS and Pyomo statuses are mapped once, onto :class:`purgeplan.errors.Status`.
 """
@@ -18,6 +26,7 @@ HiGHS and Pyomo statuses are mapped once, onto :class:`purgeplan.errors.Status`.
 from __future__ import annotations
 
 import logging
+import math
 import time
 
 import pyomo.environ as pyo
@@ -26,6 +35,107 @@ from pyomo.contrib.solver.common.results import TerminationCondition
 from .errors import SolverFailure, Status
 
 log = logging.getLogger(__name__)
+
+
+class _Opaque(Exception):
+    """An expression node the compiler does not know; the caller falls back."""
+
+
+def _source(node, params: dict) -> str:
+    """Python source computing a Pyomo expression without variables from parameter values.
+
+    ``params`` maps id(parameter) to (position in the value tuple ``v``, parameter).
+    """
+    from pyomo.core.expr import numeric_expr as ne
+
+    if isinstance(node, (int, float)):
+        number = float(node)
+        return repr(number) if math.isfinite(number) else ("1e999" if number > 0 else "-1e999")
+    if getattr(node, "is_parameter_type", lambda: False)():
+        position, _ = params.setdefault(id(node), (len(params), node))
+        return f"v[{position}]"
+    if getattr(node, "is_named_expression_type", lambda: False)():
+        return _source(node.expr, params)
+    args = [_source(a, params) for a in getattr(node, "args", ())]
+    if isinstance(node, ne.SumExpression):
+        return "(" + " + ".join(args) + ")" if args else "0.0"
+    if isinstance(node, ne.ProductExpression):
+        return f"({args[0]} * {args[1]})"
+    if isinstance(node, ne.DivisionExpression):
+        return f"({args[0]} / {args[1]})"
+    if isinstance(node, ne.NegationExpression):
+        return f"(-{args[0]})"
+    if isinstance(node, ne.PowExpression):
+        return f"({args[0]} ** {args[1]})"
+    raise _Opaque(type(node).__name__)
+
+
+class ParameterPush:
+    """The interface's ``update_parameters()``, compiled.
+
+    Built from the interface's table of mutable coefficients after the first
+    solve; :meth:`push` evaluates every coefficient at the parameters' current
+    values in one generated function and changes in HiGHS those that moved.
+    :meth:`build` returns None where the table is missing or holds an entry
+    of a kind not known here.
+    """
+
+    def __init__(self, solver, targets: list, exprs: list[str], params: dict):
+        self.highs = solver._solver_model
+        self.con_map = solver._pyomo_con_to_solver_con_map
+        self.var_map = solver._pyomo_var_to_solver_var_map
+        self.targets = targets  # (kind, constraint, variable id) per value, in ``exprs`` order
+        self.params = [p for _, p in sorted(params.values(), key=lambda t: t[0])]
+        self.evaluate = eval("lambda v: (" + ", ".join(exprs) + ",)",  # noqa: S307
+                             {"__builtins__": {}})
+        self.last: list = [None] * len(targets)
+
+    @classmethod
+    def build(cls, solver) -> ParameterPush | None:
+        from pyomo.contrib.solver.solvers import highs as iface
+
+        params: dict = {}
+        exprs, targets = [], []
+        try:
+            objective = solver._mutable_objective
+            if solver._mutable_bounds or objective.quadratic_coefs:
+                return None
+            for h in (h for hs in solver._mutable_helpers.values() for h in hs):
+                if type(h) is iface._MutableLinearCoefficient:
+                    exprs.append(_source(h.expr, params))
+                    targets.append(("coefficient", h.pyomo_con, h.pyomo_var_id))
+                elif type(h) is iface._MutableConstraintBounds:
+                    exprs.append(f"({_source(h.lower_expr, params)}, "
+                                 f"{_source(h.upper_expr, params)})")
+                    targets.append(("row bounds", h.con, None))
+                else:
+                    return None
+            for c in objective.linear_coefs:
+                exprs.append(_source(c.expr, params))
+                targets.append(("cost", None, c.pyomo_var_id))
+            exprs.append(_source(objective.constant.expr, params))
+            targets.append(("offset", None, None))
+            return cls(solver, targets, exprs, params)
+        except (AttributeError, TypeError, _Opaque):
+            return None
+
+    def push(self) -> None:
+        """Evaluate every coefficient and change in HiGHS those that moved."""
+        values = self.evaluate(tuple(p.value for p in self.params))
+        highs, con_map, var_map = self.highs, self.con_map, self.var_map
+        for i, (value, (kind, con, var)) in enumerate(zip(values, self.targets, strict=True)):
+            if value == self.last[i]:
+                continue
+            self.last[i] = value
+            if kind == "coefficient":
+                highs.changeCoeff(con_map[con], var_map[var], value)
+            elif kind == "cost":
+                highs.changeColCost(var_map[var], value)
+            elif kind == "row bounds":
+                highs.changeRowBounds(con_map[con], *value)
+            else:
+                highs.changeObjectiveOffset(value)
+
 
 _TERMINATION = {
     TerminationCondition.convergenceCriteriaSatisfied: Status.OPTIMAL,
@@ -63,10 +173,14 @@ class PersistentLP:
     direct : bool
         Re-solve through the HiGHS instance directly where the interface allows
         (see the module docstring); False always uses ``solve()``.
+    compiled : bool
+        On the direct route, push changed parameters by :class:`ParameterPush`
+        where it can be built; False uses the interface's ``update()``.
     """
 
     def __init__(self, model: pyo.ConcreteModel, solver_options: dict | None = None,
-                 time_limit_s: float | None = None, direct: bool = True):
+                 time_limit_s: float | None = None, direct: bool = True,
+                 compiled: bool = True):
         from pyomo.contrib.solver.solvers.highs import Highs
 
         self.model = model
@@ -87,11 +201,23 @@ class PersistentLP:
         self._variables = [v for v in model.component_data_objects(pyo.Var, active=True)
                            if not v.fixed]
         self._loaded = False
+        self.compiled = compiled
+        self._push: ParameterPush | None = None
 
     def restart(self, time_limit_s: float | None) -> None:
         """Start a new wall-clock budget."""
         self.started = time.perf_counter()
         self.time_limit_s = time_limit_s
+
+    @property
+    def pushes_compiled(self) -> bool:
+        """Whether re-solves push parameters through :class:`ParameterPush`."""
+        return self._push is not None
+
+    def objective_value(self) -> float | None:
+        """The objective value HiGHS reports for its last solve, or None where hidden."""
+        highs = self._highs()
+        return None if highs is None else float(highs.getInfo().objective_function_value)
 
     def solve(self) -> Status:
         """Solve the LP as it stands; OPTIMAL (values loaded into the model) or INFEASIBLE.
@@ -138,6 +264,8 @@ class PersistentLP:
         result = self.solver.solve(self.model)
         self._count("public solve()")
         self._loaded = True
+        if self.direct and self._push is None and self.compiled:
+            self._push = ParameterPush.build(self.solver)
         status = status_of(result.termination_condition)
         if status is Status.OPTIMAL:
             result.solution_loader.load_vars()
@@ -150,7 +278,10 @@ class PersistentLP:
     def _run_direct(self, options: dict):
         highs = self._highs()
         highs.HandleKeyboardInterrupt = True  # Ctrl-C and SIGTERM reach Python during a solve
-        self.solver.update()
+        if self._push is None:
+            self.solver.update()
+        else:
+            self._push.push()
         for key, value in options.items():
             highs.setOptionValue(key, value)
         highs.run()
