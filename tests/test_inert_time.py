@@ -191,7 +191,8 @@ def test_a_state_at_the_inert_limit_has_no_time_left(loop_and_state):
 
 def test_json_carries_the_hours(loop_and_state):
     loop, _ = loop_and_state
-    opt = optimise(loop, details=False)
+    opt = optimise(loop)
+    assert opt.time_to_inert_limit_h  # a study's optimum carries the hours
     rec = alternative_record("x", loop, opt)
     hours = rec["time_to_inert_limit_h"]
     assert set(hours) == {"purge_closed", "recovery_down", "never_reached"}
@@ -200,12 +201,17 @@ def test_json_carries_the_hours(loop_and_state):
         assert (k in hours["never_reached"]) == (v is not None and math.isinf(v))
 
 
+def test_runs_without_details_leave_the_hours_out(loop_and_state):
+    loop, _ = loop_and_state
+    assert optimise(loop, details=False).time_to_inert_limit_h == {}
+
+
 def test_json_names_the_events_that_never_reach_the_limit(loop_and_state):
     import dataclasses
 
     loop, _ = loop_and_state
     loose = dataclasses.replace(loop, max_inert_fraction_reactor_inlet=0.5)
-    opt = optimise(loose, details=False)
+    opt = optimise(loose)
     hours = alternative_record("x", loose, opt)["time_to_inert_limit_h"]
     assert hours["recovery_down"] is None and "recovery_down" in hours["never_reached"]
 

@@ -90,7 +90,8 @@ class Optimum:
     solver: SolverInfo
     off_optimum: OffOptimum | None = None
     #: Hours from the optimum to the inert limit, "purge_closed" and "recovery_down"
-    #: (see :func:`purgeplan.operations.time_to_inert_limit`); empty when infeasible.
+    #: (see :func:`purgeplan.operations.time_to_inert_limit`); empty when infeasible
+    #: or when optimised without ``details``.
     time_to_inert_limit_h: dict[str, float | None] = field(default_factory=dict)
 
 
@@ -135,8 +136,9 @@ def optimise(loop: Loop, *, scan_points: int = SCAN_POINTS, xtol_rel: float = 1e
     xtol_rel : float
         Relative tolerance of the refinement in the purge fraction.
     details : bool
-        Also report the cost curve and the cost of running off the optimum
-        (sensitivity and break-even runs leave them out).
+        Also report the cost curve, the cost of running off the optimum and
+        the hours to the inert limit (sensitivity and break-even runs leave
+        them out).
     time_limit_s : float, optional
         Wall-clock limit for this alternative [s]; past it the alternative fails.
     reuse : LoopLP, optional
@@ -193,7 +195,7 @@ def optimise(loop: Loop, *, scan_points: int = SCAN_POINTS, xtol_rel: float = 1e
                   state.purge_fraction, info.solves, info.seconds)
         return Optimum(loop.name, True, Status.OPTIMAL, "optimal", state,
                        limits.binding(solver.limits, state.quantities), curve, info, off,
-                       time_to_inert_limit(loop, state))
+                       time_to_inert_limit(loop, state) if details else {})
     except InfeasibleError as exc:
         return _failed(loop, info, Status.INFEASIBLE, str(exc), t0)
     except SolverFailure as exc:
