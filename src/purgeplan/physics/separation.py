@@ -8,10 +8,51 @@ vapour mole fraction y_p = Psat(T) / P, so for each kmol of the other
 product (Smith, Van Ness and Abbott, *Introduction to Chemical Engineering
 Thermodynamics*, 7th ed., section 10.4, Raoult's law).  Vapour pressures use
 the Wagner equation with the coefficients tabulated by Poling et al. (5th ed.)
-or McGarry (1983), as carried by the ``chemicals`` library.
+or McGarry (1983), as carried by the ``chemicals`` library; the two forms are
+evaluated here, term for term as ``chemicals`` writes them, so that a
+condensing product does not need that library's vapour-pressure module.
 """
 
 from __future__ import annotations
+
+from math import exp, sqrt
+
+
+def wagner_pa(temperature_k: float, tc_k: float, pc_pa: float,
+              a: float, b: float, c: float, d: float) -> float:
+    """Vapour pressure by the Wagner equation in its 2.5, 5 form [Pa].
+
+    ln(P / Pc) = (a tau + b tau^1.5 + c tau^2.5 + d tau^5) / Tr, with Tr = T / Tc
+    and tau = 1 - Tr (Poling, Prausnitz and O'Connell, *The Properties of Gases
+    and Liquids*, 5th ed., eq. 7-3.3; the coefficients of their Appendix A).
+    Above the critical temperature Tr is held at 1, so P = Pc.
+    """
+    tr = temperature_k / tc_k
+    if tr > 1.0:
+        tr = 1.0
+    tau = 1.0 - tr
+    tau_rt = sqrt(tau)
+    tau15 = tau * tau_rt
+    tau25 = tau * tau15
+    return pc_pa * exp((a + b * tau_rt + tau15 * (c + d * tau25)) * tau / tr)
+
+
+def wagner_original_pa(temperature_k: float, tc_k: float, pc_pa: float,
+                       a: float, b: float, c: float, d: float) -> float:
+    """Vapour pressure by the original Wagner equation, 3, 6 form [Pa].
+
+    ln(P / Pc) = (a tau + b tau^1.5 + c tau^3 + d tau^6) / Tr (Wagner 1973;
+    the coefficients of McGarry 1983).  Above the critical temperature Tr is
+    held at 1, so P = Pc; at 0 K it is 0.
+    """
+    tr = temperature_k / tc_k
+    if tr > 1.0:
+        tr = 1.0
+    if tr == 0.0:
+        return 0.0
+    tau = 1.0 - tr
+    tau2 = tau * tau
+    return pc_pa * exp(((d * tau2 * tau + c) * tau2 + a + b * sqrt(tau)) * (tau / tr))
 
 
 def condensate_vapour_ratio(vapour_pressure_bar: float, pressure_bar: float) -> float:
