@@ -6,15 +6,32 @@ API TDB tables; ideal-gas heat capacity coefficients from Poling et al., *The
 Properties of Gases and Liquids*, 5th ed., Appendix A; vapour pressures by the
 Wagner equation (Poling et al.; McGarry 1983); lower heating values from the
 combustion stoichiometry and formation enthalpies (``combustion_data``).
+
+Reading those tables costs about a second, so the record looked up for each
+identifier is kept in a per-user cache file, one per ``chemicals`` version
+(``purgeplan/properties-chemicals-VERSION.json`` in ``$XDG_CACHE_HOME``, else
+the platform's user cache folder).  An identifier missing from the file is
+looked up in ``chemicals`` and added; a file that cannot be read, or that was
+written for another version or format, is ignored and rewritten; a cache
+folder that cannot be written only costs the lookup.  Identifiers that
+``chemicals`` does not know are never cached.
 """
 
 from __future__ import annotations
 
+import json
 import math
+import os
+import sys
 from dataclasses import dataclass
 from functools import lru_cache
+from pathlib import Path
 
 from .errors import CaseError
+from .physics.separation import wagner_original_pa, wagner_pa
+
+#: Version of the cache file layout; a file of another version is ignored.
+CACHE_FORMAT = 1
 
 
 @dataclass(frozen=True)
@@ -57,14 +74,12 @@ class ComponentData:
 
     def vapour_pressure_bar(self, temperature_k: float) -> float:
         """Vapour pressure by the Wagner equation [bar]."""
-        from chemicals import vapor_pressure as vp
-
         if self.vapour_pressure_coefficients is None:
             raise CaseError(f"separator.liquid_fraction.{self.name}",
                             f"no vapour pressure data for '{self.name}', so it cannot condense: "
                             "give a split fraction, or an identifier the property library knows")
         kind, *coeffs = self.vapour_pressure_coefficients
-        form = vp.Wagner if kind == "wagner" else vp.Wagner_original
+        form = wagner_pa if kind == "wagner" else wagner_original_pa
         return form(temperature_k, *coeffs) / 1e5
 
 
@@ -72,9 +87,21 @@ class ComponentData:
 def lookup(identifier: str) -> tuple:
     """Raw property record for a name, formula or CAS number from ``chemicals``.
 
-    Returns a tuple (cas, formula, atoms, mw, lhv_kj_mol, hf_kj_mol, s0, cp, psat).
-    Raises LookupError when ``chemicals`` does not know the identifier.
+    Returns a tuple (cas, formula, atoms, mw, lhv_kj_mol, hf_kj_mol, s0, cp, psat),
+    from the per-user cache when it holds the identifier for the installed
+    ``chemicals`` version.  Raises LookupError when ``chemicals`` does not know
+    the identifier.
     """
+    cache = _DiskCache.instance()
+    record = cache.get(identifier)
+    if record is None:
+        record = lookup_uncached(identifier)
+        cache.put(identifier, record)
+    return record
+
+
+def lookup_uncached(identifier: str) -> tuple:
+    """:func:`lookup` straight from the ``chemicals`` tables, bypassing every cache."""
     import chemicals
     from chemicals import combustion, heat_capacity, identifiers
     from chemicals import vapor_pressure as vp
@@ -113,5 +140,121 @@ def lookup(identifier: str) -> tuple:
         r = vp.Psat_data_WagnerMcGarry.loc[cas]
         psat = ("wagner_original", float(r.Tc), float(r.Pc), float(r.A), float(r.B),
                 float(r.C), float(r.D))
-    return (cas, formula, atoms, float(chemicals.MW(cas)), lhv,
-            None if hf is None else hf / 1000.0, s0, cp, psat)
+    return (cas, formula, atoms, float(chemicals.MW(cas)), float(lhv),
+            None if hf is None else float(hf) / 1000.0, None if s0 is None else float(s0),
+            cp, psat)
+
+
+# ---------------------------------------------------------------------------
+# per-user cache of looked-up records
+
+
+def cache_folder() -> Path:
+    """The per-user cache folder of purgeplan."""
+    base = os.environ.get("XDG_CACHE_HOME")
+    if not base:
+        if sys.platform == "win32":
+            base = os.environ.get("LOCALAPPDATA") or str(Path.home() / "AppData" / "Local")
+        elif sys.platform == "darwin":
+            base = str(Path.home() / "Library" / "Caches")
+        else:
+            base = str(Path.home() / ".cache")
+    return Path(base) / "purgeplan"
+
+
+def _chemicals_version() -> str | None:
+    from importlib.metadata import PackageNotFoundError, version
+
+    try:
+        return version("chemicals")
+    except PackageNotFoundError:
+        return None
+
+
+def _decode(raw: object) -> tuple:
+    """A record read back from JSON, exactly as :func:`lookup_uncached` returns it.
+
+    Raises ValueError (or TypeError) for anything that is not such a record.
+    """
+    cas, formula, atoms, mw, lhv, hf, s0, cp, psat = raw
+    if not (isinstance(cas, str) and isinstance(formula, str)):
+        raise ValueError("cas, formula")
+    atoms = tuple((str(e), int(n)) for e, n in atoms)
+    numbers = (mw, lhv) + tuple(x for x in (hf, s0) if x is not None)
+    if not all(isinstance(x, float) for x in numbers):
+        raise ValueError("numbers")
+    if cp is not None:
+        cp = tuple(cp)
+        if len(cp) != 5 or not all(isinstance(x, float) for x in cp):
+            raise ValueError("cp")
+    if psat is not None:
+        kind, *coeffs = psat
+        if kind not in ("wagner", "wagner_original") or len(coeffs) != 6 or not all(
+                isinstance(x, float) for x in coeffs):
+            raise ValueError("psat")
+        psat = (kind, *coeffs)
+    return (cas, formula, atoms, mw, lhv, hf, s0, cp, psat)
+
+
+class _DiskCache:
+    """The cache file of the installed ``chemicals`` version, read once per process."""
+
+    _instance: _DiskCache | None = None
+
+    def __init__(self, folder: Path, version: str | None):
+        self.version = version
+        self.path = None if version is None else folder / f"properties-chemicals-{version}.json"
+        self.records: dict[str, tuple] = {}
+        if self.path is not None:
+            self.records = self._read()
+
+    @classmethod
+    def instance(cls) -> _DiskCache:
+        if cls._instance is None:
+            cls._instance = cls(cache_folder(), _chemicals_version())
+        return cls._instance
+
+    @classmethod
+    def reset(cls) -> None:
+        """Forget the file read in this process (and :func:`lookup`'s memory of it)."""
+        cls._instance = None
+        lookup.cache_clear()
+
+    def _read(self) -> dict[str, tuple]:
+        try:
+            with open(self.path, encoding="utf-8") as f:
+                doc = json.load(f)
+            if (doc.get("format") != CACHE_FORMAT or doc.get("chemicals") != self.version
+                    or not isinstance(doc.get("records"), dict)):
+                return {}
+            return {str(k): _decode(v) for k, v in doc["records"].items()}
+        except (OSError, ValueError, TypeError, AttributeError):
+            return {}  # absent, unreadable, corrupt or foreign: rebuilt on the next put
+
+    def get(self, identifier: str) -> tuple | None:
+        return self.records.get(identifier)
+
+    def put(self, identifier: str, record: tuple) -> None:
+        if self.path is None:
+            return
+        self.records[identifier] = record
+        doc = {"format": CACHE_FORMAT, "chemicals": self.version, "records": self.records}
+        import tempfile
+
+        tmp = None
+        try:
+            self.path.parent.mkdir(parents=True, exist_ok=True)
+            fd, tmp = tempfile.mkstemp(dir=self.path.parent, prefix=self.path.name + ".",
+                                       suffix=".tmp")
+            with os.fdopen(fd, "w", encoding="utf-8") as f:
+                json.dump(doc, f)
+            os.replace(tmp, self.path)
+            tmp = None
+        except (OSError, TypeError, ValueError):
+            pass  # the cache is an optimisation: the record is still returned
+        finally:
+            if tmp is not None:
+                try:
+                    os.unlink(tmp)
+                except OSError:
+                    pass
