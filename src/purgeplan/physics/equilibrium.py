@@ -22,7 +22,6 @@ import math
 from collections.abc import Mapping, Sequence
 
 import numpy as np
-from scipy.optimize import brentq
 
 from .thermo import R_J_MOL_K, T_REF_K, cp_enthalpy_integral_j_mol, cp_entropy_integral_j_mol_k
 
@@ -198,4 +197,6 @@ def _single_extent(n0: list, row: list, rhs: float, floor: float) -> float:
     fa, fb = residual(a), residual(b)
     if fa * fb > 0:
         return b if fa < 0 else a
+    from scipy.optimize import brentq  # here, so that reading a case does not import SciPy
+
     return brentq(residual, a, b, xtol=max(1e-14 * total0, 1e-300), rtol=1e-14, maxiter=200)

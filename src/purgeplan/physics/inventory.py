@@ -25,7 +25,6 @@ import math
 from collections.abc import Sequence
 
 import numpy as np
-from scipy.integrate import solve_ivp
 
 
 def hours_to_inert_limit(inventory_kmol: float, fractions_now: Sequence[float],
@@ -77,6 +76,8 @@ def hours_to_inert_limit(inventory_kmol: float, fractions_now: Sequence[float],
     rise = inventory_kmol * (limit_fraction - y0.sum()) / max(inflow.sum(), 1e-300)
     taus = [inventory_kmol / g for g in out if g > 0]
     horizon = max([rise * 2.0] + [60.0 * t for t in taus])
+    from scipy.integrate import solve_ivp  # here: only a loop with an inventory needs it
+
     sol = solve_ivp(rate, (0.0, horizon), y0, method="LSODA", events=reached,
                     rtol=1e-10, atol=1e-14)
     if sol.t_events[0].size:
