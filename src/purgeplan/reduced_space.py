@@ -166,7 +166,7 @@ class LoopLP:
         la = math.log(purge_fraction)
         near = sorted(self.converged, key=lambda t: abs(math.log(t[0]) - la))[:2]
         (a0, x0), (a1, x1) = near
-        if a0 == a1:
+        if math.log(a1) == math.log(a0):  # the same point, or apart by rounding only
             return dict(x0)
         w = (la - math.log(a0)) / (math.log(a1) - math.log(a0))
         for i in eq:

@@ -17,22 +17,31 @@ from __future__ import annotations
 
 import math
 
+import numpy as np
 
-def capital_recovery_factor(discount_rate: float, life_years: float) -> float:
+#: Rate taken for a zero discount rate: there the formula gives 1/n to rounding [-].
+_ZERO_RATE = 1e-300
+
+
+def capital_recovery_factor(discount_rate, life_years):
     """Capital recovery factor i (1+i)^n / ((1+i)^n - 1) [1/year].
 
     Parameters
     ----------
-    discount_rate : float
+    discount_rate : float or numpy.ndarray
         Annual discount rate i [-]; zero gives straight-line 1/n.
-    life_years : float
+    life_years : float or numpy.ndarray
         Economic life n [year].
+
+    Returns a float for floats and an array (broadcast) for arrays, so that
+    many price scenarios are annualised at once.
     """
+    xp = np if np.ndim(discount_rate) or np.ndim(life_years) else math
+    i = (np.maximum(discount_rate, _ZERO_RATE) if xp is np
+         else max(float(discount_rate), _ZERO_RATE))
     # (1+i)^n - 1 through expm1/log1p stays accurate for small rates
-    excess = math.expm1(life_years * math.log1p(discount_rate))
-    if discount_rate == 0.0 or excess == 0.0:
-        return 1.0 / life_years
-    return discount_rate * (1.0 + excess) / excess
+    excess = xp.expm1(life_years * xp.log1p(i))
+    return i * (1.0 + excess) / excess
 
 
 def scaled_capital_cost(reference_cost: float, size, reference_size: float,
