@@ -12,6 +12,7 @@ import copy
 import difflib
 import hashlib
 import itertools
+import math
 import re
 import tomllib
 import typing
@@ -221,6 +222,37 @@ class EconomicsSpec(_Strict):
     sensitivity_fraction: OpenFraction = 0.2
 
 
+#: Longest label of an alternative in words (it heads tables and chart legends).
+MAX_LABEL_CHARS = 60
+
+
+class UncertainInputSpec(_Strict):
+    """One uncertain price or economic input: a case key path and its distribution."""
+
+    input: Name
+    distribution: Literal["uniform", "triangular", "normal", "lognormal"]
+    low: Finite | None = None
+    mode: Finite | None = None
+    high: Finite | None = None
+    mean: Finite | None = None
+    standard_deviation: Positive | None = None
+    median: Positive | None = None
+    sigma_log: _num(gt=0, le=5) | None = None
+
+
+class RankCorrelationSpec(_Strict):
+    inputs: list[Name] = Field(min_length=2, max_length=2)
+    rank_correlation: _num(ge=-0.99, le=0.99)
+
+
+class UncertaintySpec(_Strict):
+    scenarios: Annotated[int, Field(strict=True, ge=2, le=1_000_000)]
+    seed: Annotated[int, Field(strict=True, ge=0, le=2**63 - 1)] = 0
+    inputs: list[UncertainInputSpec] = Field(min_length=1, max_length=50)
+    correlations: list[RankCorrelationSpec] = []
+    sobol_samples: Annotated[int, Field(strict=True, ge=0, le=65536)] = 0
+
+
 class AlternativeSpec(_Strict):
     name: Name
     choices: dict[Name, Name]
@@ -246,6 +278,7 @@ class Case(_Strict):
     exclude: list[dict[Name, Name]] = []
 
     @model_validator(mode="after")
+    uncertainty: UncertaintySpec | None = None
     def _cross_checks(self):
         check_case(self)
         check_property_data(self)
@@ -287,6 +320,126 @@ def check_case(case: Case) -> None:
     _check_options(case)
 
 
+    _check_uncertainty(case)
+
+
+#: The inputs an [uncertainty] table may move, with the range each may take.
+UNCERTAIN_ECONOMICS = {
+    "hours_per_year": (1e-9, 8784.0), "discount_rate": (0.0, 0.999999),
+    "life_years": (1.0, 100.0), "cost_index_ratio": (1e-9, 1e12),
+    "power_price_per_kwh": (0.0, 1e12), "fuel_price_per_gj": (0.0, 1e12),
+    "flare_cost_per_kmol": (0.0, 1e12), "product_price_per_t": (0.0, 1e12),
+    "co2_price_per_t": (0.0, 1e12), "catalyst_price_per_m3": (0.0, 1e12),
+    "catalyst_life_years": (0.01, 100.0), "compressor_capital.reference_cost": (1e-9, 1e12),
+    "reactor_capital.reference_cost": (1e-9, 1e12),
+}
+
+#: The parameters each distribution takes: (required, optional).
+DISTRIBUTION_PARAMETERS = {
+    "uniform": ({"low", "high"}, set()),
+    "triangular": ({"low", "mode", "high"}, set()),
+    "normal": ({"mean", "standard_deviation"}, {"low", "high"}),
+    "lognormal": ({"median", "sigma_log"}, {"low", "high"}),
+}
+
+
+def uncertain_input_range(case: Case, path: str) -> tuple[float, float]:
+    """The range an uncertain input may take, or a CaseError naming the input and the fix."""
+    field = path.removeprefix("economics.")
+    if path.startswith("economics.") and field in UNCERTAIN_ECONOMICS:
+        if field == "co2_price_per_t" and case.economics.co2_price_per_t is None:
+            raise ValueError("the case sets no economics.co2_price_per_t, so there is no "
+                             "emissions line to move; set it first")
+        return UNCERTAIN_ECONOMICS[field]
+    parts = path.split(".")
+    if len(parts) == 3 and parts[0] == "sources" and parts[2] == "price_per_kmol":
+        if parts[1] not in case.sources:
+            raise ValueError(f"no source named {parts[1]!r}; sources: {sorted(case.sources)}")
+        return 0.0, 1e12
+    choices = ([f"economics.{k}" for k in UNCERTAIN_ECONOMICS]
+               + [f"sources.{n}.price_per_kmol" for n in sorted(case.sources)])
+    hint = difflib.get_close_matches(path, choices, n=1)
+    raise ValueError(f"{path!r} is not an input that can be uncertain"
+                     + (f"; did you mean {hint[0]!r}?" if hint else
+                        "; use economics.<price or economic input> or "
+                        "sources.<name>.price_per_kmol"))
+
+
+def _check_uncertain_input(case: Case, base: str, spec: UncertainInputSpec) -> None:
+    try:
+        lo_ok, hi_ok = uncertain_input_range(case, spec.input)
+    except ValueError as exc:
+        raise CaseError(f"{base}.input", str(exc)) from None
+    required, optional = DISTRIBUTION_PARAMETERS[spec.distribution]
+    given = {k for k in ("low", "mode", "high", "mean", "standard_deviation", "median",
+                         "sigma_log") if getattr(spec, k) is not None}
+    for k in sorted(required - given):
+        raise CaseError(f"{base}.{k}", f"required for a {spec.distribution} distribution")
+    for k in sorted(given - required - optional):
+        raise CaseError(f"{base}.{k}", f"not a parameter of a {spec.distribution} "
+                        f"distribution (it takes {', '.join(sorted(required | optional))})")
+    order = [(k, getattr(spec, k)) for k in ("low", "mode", "high") if k in given]
+    for (k0, v0), (k1, v1) in itertools.pairwise(order):
+        if not v0 < v1:
+            raise CaseError(f"{base}.{k1}", f"{v1:g} must be above {k0} {v0:g}")
+    low = -math.inf if spec.low is None else spec.low
+    high = math.inf if spec.high is None else spec.high
+    for k, v in (("mean", spec.mean), ("median", spec.median)):
+        if v is not None and not low < v < high:
+            raise CaseError(f"{base}.{k}", f"{v:g} must lie between low and high")
+    from .sampling import Distribution
+
+    lo, hi = Distribution(spec.distribution, **{k: getattr(spec, k) for k in given}).support()
+    if lo < lo_ok or hi > hi_ok:
+        bound = "low" if lo < lo_ok else "high"
+        raise CaseError(f"{base}.{bound}", f"samples would reach {lo if lo < lo_ok else hi:g}; "
+                        f"{spec.input} must stay within [{lo_ok:g}, {hi_ok:g}] "
+                        f"(set {bound} to cut the distribution)")
+
+
+def _check_uncertainty(case: Case) -> None:
+    u = case.uncertainty
+    if u is None:
+        return
+    seen: dict[str, int] = {}
+    for i, spec in enumerate(u.inputs):
+        base = f"uncertainty.inputs[{i}]"
+        if spec.input in seen:
+            raise CaseError(f"{base}.input", f"{spec.input!r} is already given in "
+                            f"uncertainty.inputs[{seen[spec.input]}]")
+        seen[spec.input] = i
+        _check_uncertain_input(case, base, spec)
+    pairs = set()
+    for i, c in enumerate(u.correlations):
+        base = f"uncertainty.correlations[{i}]"
+        for name in c.inputs:
+            if name not in seen:
+                raise CaseError(f"{base}.inputs", f"{name!r} is not one of uncertainty.inputs")
+        if c.inputs[0] == c.inputs[1]:
+            raise CaseError(f"{base}.inputs", "names the same input twice")
+        pair = frozenset(c.inputs)
+        if pair in pairs:
+            raise CaseError(f"{base}.inputs", "this pair is already correlated above")
+        pairs.add(pair)
+    if correlation_matrix(u) is None:
+        raise CaseError("uncertainty.correlations", "these rank correlations cannot hold "
+                        "together (their matrix is not positive definite); weaken some")
+
+
+def correlation_matrix(u: UncertaintySpec):
+    """The rank-correlation matrix of the inputs, in their order; None if not positive definite."""
+    import numpy as np
+
+    index = {spec.input: i for i, spec in enumerate(u.inputs)}
+    m = np.eye(len(u.inputs))
+    for c in u.correlations:
+        i, j = index[c.inputs[0]], index[c.inputs[1]]
+        m[i, j] = m[j, i] = c.rank_correlation
+    try:
+        np.linalg.cholesky(m)
+    except np.linalg.LinAlgError:
+        return None
+    return m
 def _component_check(case: Case) -> _Need:
     """A function that refuses a name that is not a declared component, with a hint."""
     known = sorted(case.components)
