@@ -25,6 +25,7 @@ from scipy.optimize import brentq
 from . import __version__
 from .build import build_loop
 from .case import Case, expand_alternatives
+from .executor import map_tasks
 from .loop import Loop
 from .reduced_space import LoopLP
 from .solve import Optimum, optimise
@@ -179,30 +180,10 @@ def run_tasks(tasks: list[Task], jobs: int = 1, client=None,
         Called with the number of tasks finished since the last call.
     """
     results: dict[tuple, Optimum | VariantOptima] = {}
-    if client is not None:
-        from dask.distributed import as_completed
-
-        futures = client.map(run_task, tasks, pure=False)
-        for fut in as_completed(futures):
-            key, opt = fut.result()
-            results[key] = opt
-            if progress:
-                progress(1)
-    elif jobs > 1 and len(tasks) > 1:
-        from concurrent.futures import ProcessPoolExecutor, as_completed
-
-        with ProcessPoolExecutor(max_workers=jobs) as pool:
-            for fut in as_completed([pool.submit(run_task, t) for t in tasks]):
-                key, opt = fut.result()
-                results[key] = opt
-                if progress:
-                    progress(1)
-    else:
-        for t in tasks:
-            key, opt = run_task(t)
-            results[key] = opt
-            if progress:
-                progress(1)
+    for _, (key, opt) in map_tasks(run_task, tasks, jobs, client):
+        results[key] = opt
+        if progress:
+            progress(1)
     return {t.key: results[t.key] for t in tasks}
 
 
