@@ -237,7 +237,8 @@ class _DiskCache:
     def put(self, identifier: str, record: tuple) -> None:
         if self.path is None:
             return
-        self.records[identifier] = record
+        # keep what other processes (a study's workers, another case) added meanwhile
+        self.records = {**self._read(), **self.records, identifier: record}
         doc = {"format": CACHE_FORMAT, "chemicals": self.version, "records": self.records}
         import tempfile
 
