@@ -210,3 +210,13 @@ def test_reading_a_case_imports_no_scipy(tmp_path):
                              tmp_path / "cache")
     assert "purgeplan.case" in modules
     assert not {m for m in modules if m.split(".")[0] in ("scipy", "pyomo", "openpyxl")}
+
+
+def test_records_written_meanwhile_by_another_process_are_kept(cache_home):
+    lookup("H2")                                        # this process writes the file
+    path = _cache_file(cache_home)
+    doc = json.loads(path.read_text(encoding="utf-8"))
+    doc["records"]["N2"] = list(lookup_uncached("N2"))  # another process adds a record
+    path.write_text(json.dumps(doc), encoding="utf-8")
+    lookup("CH4")                                       # this process adds its next one
+    assert set(json.loads(path.read_text(encoding="utf-8"))["records"]) == {"H2", "N2", "CH4"}
