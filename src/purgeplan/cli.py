@@ -113,8 +113,7 @@ def _add_plots(p: argparse.ArgumentParser, what: str) -> None:
 def _add_run_options(p: argparse.ArgumentParser) -> None:
     p.add_argument("--time-limit", type=float, metavar="S",
                    help="wall-clock limit per alternative [s]")
-    p.add_argument("--quiet", action="store_true",
-                   help="no progress bar (it is shown only on a terminal anyway)")
+    _add_quiet(p)
 
 
 def _parser() -> argparse.ArgumentParser:
@@ -182,7 +181,15 @@ def _parser() -> argparse.ArgumentParser:
     s.add_argument("--jobs", type=int, default=1, metavar="N",
                    help="worker processes; 1 runs in-process, 0 one per core [default: 1]")
     _add_run_options(s)
+    from .cli_scenarios import add_parser as add_scenarios
+
+    add_scenarios(sub, _add_case, _add_json, _add_plots, _add_quiet)
     return p
+
+
+def _add_quiet(p: argparse.ArgumentParser) -> None:
+    p.add_argument("--quiet", action="store_true",
+                   help="no progress bar (it is shown only on a terminal anyway)")
 
 
 # ---------------------------------------------------------------------------
@@ -1033,7 +1040,14 @@ def cmd_study(args) -> int:
 
 
 COMMANDS = {"demos": cmd_demos, "new": cmd_new, "check": cmd_check, "evaluate": cmd_evaluate,
-            "optimize": cmd_optimize, "study": cmd_study}
+            "optimize": cmd_optimize, "study": cmd_study,
+            "scenarios": lambda args: _scenarios(args)}  # imported only when run
+
+
+def _scenarios(args) -> int:
+    from .cli_scenarios import cmd_scenarios
+
+    return cmd_scenarios(args)
 
 
 def _quiet_stdout() -> None:
