@@ -1,0 +1,376 @@
+"""Price scenarios: the fast route against from-scratch optimisation, and the statistics.
+
+Each check compares with something outside the scenario code: an ``optimize``
+of a case file with the scenario's prices written in, closed-form moments of
+the distributions (NIST/SEMATECH e-Handbook of Statistical Methods, section
+1.3.6.6), Spearman's coefficient from scipy, and the Ishigami function's
+analytical Sobol indices (docs/references.md).
+"""
+
+from __future__ import annotations
+
+import dataclasses
+import json
+import math
+import re
+from pathlib import Path
+
+import numpy as np
+import pytest
+from scipy import stats
+
+from purgeplan import build_loop
+from purgeplan.case import expand_alternatives, parse_case_text
+from purgeplan.cli import main
+from purgeplan.errors import CaseError
+from purgeplan.sampling import (
+    Distribution,
+    impose_rank_correlation,
+    scenario_values,
+    sobol_indices,
+    sobol_plan,
+    unit_samples,
+)
+from purgeplan.solve import optimise
+from purgeplan.uncertainty import (
+    CHUNK,
+    ROUTE_REOPTIMISED,
+    ROUTE_STATES,
+    optima_over,
+    route_for,
+    run_uncertainty,
+    uncertain_inputs,
+    with_inputs,
+)
+
+DEMO = (Path(__file__).resolve().parents[1] / "cases" / "ammonia_demo.toml").read_text()
+
+# invented distributions around the demo's invented prices
+UNCERTAINTY = """
+[uncertainty]
+scenarios = 40
+seed = 5
+
+[[uncertainty.inputs]]
+input = "sources.standard.price_per_kmol"
+distribution = "triangular"
+low = 1.9
+mode = 2.3
+high = 2.9
+
+[[uncertainty.inputs]]
+input = "sources.purified.price_per_kmol"
+distribution = "uniform"
+low = 2.0
+high = 3.0
+
+[[uncertainty.inputs]]
+input = "economics.power_price_per_kwh"
+distribution = "lognormal"
+median = 0.07
+sigma_log = 0.3
+low = 0.02
+high = 0.2
+
+[[uncertainty.inputs]]
+input = "economics.fuel_price_per_gj"
+distribution = "normal"
+mean = 7.5
+standard_deviation = 2.0
+low = 0.0
+high = 15.0
+
+[[uncertainty.correlations]]
+inputs = ["sources.standard.price_per_kmol", "sources.purified.price_per_kmol"]
+rank_correlation = 0.7
+"""
+
+
+@pytest.fixture(scope="module")
+def demo():
+    case = parse_case_text(DEMO + UNCERTAINTY)
+    loops = {name: build_loop(c, name) for name, _, c in expand_alternatives(case)}
+    return case, loops
+
+
+def _square(loops, grades=("standard", "purified")):
+    return [(n, lp) for n, lp in loops.items()
+            if route_for(lp) == ROUTE_STATES and any(f"makeup_grade={g}," in n for g in grades)]
+
+
+def _written_in(paths, row) -> str:
+    """The demo case's text with one scenario's values written over the demo's own."""
+    text = DEMO
+    for path, value in zip(paths, row, strict=True):
+        parts = path.split(".")
+        if parts[0] == "sources":
+            section, key = rf"\[sources\.{parts[1]}\]", "price_per_kmol"
+        else:
+            section, key = r"\[economics\]", parts[1]
+        pattern = rf"({section}[^\[]*?\n{key} = )[^\s#]+"
+        text, n = re.subn(pattern, rf"\g<1>{float(value)!r}", text, count=1, flags=re.S)
+        assert n == 1, path
+    return text
+
+
+def test_fast_route_equals_optimize_of_the_case_with_the_prices_written_in(demo):
+    case, loops = demo
+    chosen = _square(loops)
+    assert len(chosen) >= 6
+    result = run_uncertainty(case, chosen)
+    assert {a.route for a in result.alternatives} == {ROUTE_STATES}
+    names = [n for n, _ in chosen]
+    for s in (0, 13, 27, 39):
+        text = _written_in(result.inputs, result.values[s])
+        written = {n: build_loop(c, n) for n, _, c in expand_alternatives(parse_case_text(text))}
+        tac = {n: optimise(written[n], details=False).state.tac_per_year for n in names}
+        for i, n in enumerate(names):
+            assert result.tac[i, s] == pytest.approx(tac[n], rel=1e-6)
+        assert names[int(np.argmin(result.tac[:, s]))] == min(tac, key=tac.get)
+
+
+def test_fast_route_optimum_within_the_method_tolerance_in_every_scenario(demo):
+    """Every scenario, not a sample: TAC within 1e-8 of a from-scratch optimum (two of them)."""
+    case, loops = demo
+    chosen = [(n, lp) for n, lp in _square(loops, ("standard",)) if "purge_destination=fuel" in n]
+    result = run_uncertainty(case, chosen)
+    for i, (_, lp) in enumerate(chosen[:2]):
+        for s, row in enumerate(result.values):
+            ref = optimise(with_inputs(lp, dict(zip(result.inputs, row, strict=True))),
+                           details=False).state
+            assert result.tac[i, s] == pytest.approx(ref.tac_per_year, rel=1e-8)
+
+
+def test_the_same_seed_gives_the_same_result_and_another_seed_does_not(demo):
+    case, loops = demo
+    chosen = _square(loops)[:3]
+    one, two = run_uncertainty(case, chosen), run_uncertainty(case, chosen)
+    assert np.array_equal(one.values, two.values) and np.array_equal(one.tac, two.tac)
+    assert one.alternatives == two.alternatives
+    other = case.model_copy(update={"uncertainty": case.uncertainty.model_copy(
+        update={"seed": 6})})
+    assert not np.array_equal(run_uncertainty(other, chosen).values, one.values)
+
+
+def test_probabilities_sum_to_one_and_regret_is_never_negative(demo):
+    case, loops = demo
+    result = run_uncertainty(case, _square(loops))
+    assert sum(a.probability_best for a in result.alternatives) == pytest.approx(1.0, abs=1e-12)
+    assert all(a.expected_regret >= 0.0 for a in result.alternatives)
+    best = max(result.alternatives, key=lambda a: a.probability_best)
+    assert result.recommended == best.name
+
+
+def test_an_alternative_that_dominates_in_every_scenario(demo):
+    """The same loop with a dearer catalyst (not an uncertain input) costs more in every one."""
+    case, loops = demo
+    name, lp = _square(loops)[0]
+    dear = dataclasses.replace(lp, name="dear", prices=dataclasses.replace(
+        lp.prices, catalyst_price_per_m3=2.0 * lp.prices.catalyst_price_per_m3 + 1000.0))
+    result = run_uncertainty(case, [(name, lp), ("dear", dear)])
+    cheap, dearer = result.alternatives
+    assert cheap.probability_best == 1.0 and cheap.expected_regret == 0.0
+    assert dearer.probability_best == 0.0 and dearer.expected_regret > 0.0
+
+
+def test_routes_on_a_pool_and_on_a_dask_cluster_give_the_in_process_results(demo):
+    distributed = pytest.importorskip("distributed")
+    case, loops = demo
+    blend = next(lp for n, lp in loops.items() if route_for(lp) == ROUTE_REOPTIMISED)
+    chosen = [lp for _, lp in _square(loops)[:2]] + [blend]
+    routes = [route_for(lp) for lp in chosen]
+    inputs = uncertain_inputs(case)
+    paths = tuple(x.path for x in inputs)
+    values = scenario_values([x.distribution for x in inputs], CHUNK + 3, 9)
+    here = optima_over(chosen, routes, paths, values)
+    pool = optima_over(chosen, routes, paths, values, jobs=2)
+    with distributed.LocalCluster(n_workers=2, threads_per_worker=1, processes=True,
+                                  host="127.0.0.1", dashboard_address=None) as cluster, \
+            distributed.Client(cluster) as client:
+        remote = optima_over(chosen, routes, paths, values, client=client)
+    for other in (pool, remote):
+        for a, b in zip(here[:3], other[:3], strict=True):
+            assert np.array_equal(a, b, equal_nan=True)
+        assert other[3:] == here[3:] == (CHUNK + 3, False)
+
+
+def test_ctrl_c_keeps_the_scenarios_finished_for_every_alternative(demo):
+    case, loops = demo
+    square = _square(loops)[0][1]
+    blend = next(lp for n, lp in loops.items() if route_for(lp) == ROUTE_REOPTIMISED)
+    inputs = uncertain_inputs(case)
+    paths = tuple(x.path for x in inputs)
+    values = scenario_values([x.distribution for x in inputs], 2 * CHUNK, 3)
+    calls = []
+
+    def progress(n):
+        calls.append(n)
+        if len(calls) == 2:  # the square alternative, then the blend's first block
+            raise KeyboardInterrupt
+    tac, _, _, finished, interrupted = optima_over(
+        [square, blend], [ROUTE_STATES, ROUTE_REOPTIMISED], paths, values, progress=progress)
+    assert interrupted and finished == CHUNK
+    assert np.isfinite(tac[:, :CHUNK]).all() and np.isnan(tac[1, CHUNK:]).all()
+
+
+# ---------------------------------------------------------------------------
+# the distributions and the sampling plans
+
+
+N = 40_000
+
+
+@pytest.mark.parametrize("dist,mean,sd", [
+    # NIST/SEMATECH e-Handbook 1.3.6.6.2 (uniform): (a+b)/2, (b-a)/sqrt(12)
+    (Distribution("uniform", low=2.0, high=5.0), 3.5, 3.0 / math.sqrt(12.0)),
+    # triangular (a, c, b): (a+b+c)/3, sqrt((a2+b2+c2-ab-ac-bc)/18)
+    (Distribution("triangular", low=1.0, mode=2.0, high=6.0), 3.0,
+     math.sqrt((1 + 36 + 4 - 6 - 2 - 12) / 18.0)),
+    # normal, bounds far out (10 sd): mean and sd as given
+    (Distribution("normal", mean=7.5, standard_deviation=1.5, low=-7.5, high=22.5), 7.5, 1.5),
+    # lognormal with median m and sigma s: m exp(s2/2), that times sqrt(exp(s2)-1)
+    (Distribution("lognormal", median=0.07, sigma_log=0.25, low=1e-9, high=10.0),
+     0.07 * math.exp(0.25 ** 2 / 2), 0.07 * math.exp(0.25 ** 2 / 2)
+     * math.sqrt(math.expm1(0.25 ** 2))),
+])
+def test_sample_moments_match_the_distributions(dist, mean, sd):
+    x = dist.from_unit(unit_samples(N, 1, 21)[:, 0])
+    assert dist.moments() == pytest.approx((mean, sd), rel=1e-6)
+    # within four standard errors of the mean and of the standard deviation
+    assert abs(x.mean() - mean) < 4 * sd / math.sqrt(N)
+    assert abs(x.std() - sd) < 4 * sd / math.sqrt(2 * N)
+
+
+def test_bounds_cut_a_distribution_and_its_moments_follow():
+    dist = Distribution("normal", mean=1.0, standard_deviation=1.0, low=0.0)
+    x = dist.from_unit(unit_samples(N, 1, 4)[:, 0])
+    assert x.min() >= 0.0
+    ref = stats.truncnorm(-1.0, np.inf, loc=1.0, scale=1.0)  # scipy's truncated normal
+    assert dist.moments() == pytest.approx((ref.mean(), ref.std()), rel=1e-6)
+    assert abs(x.mean() - ref.mean()) < 4 * ref.std() / math.sqrt(N)
+
+
+def test_rank_correlation_is_imposed_and_the_marginals_kept():
+    u = unit_samples(5000, 3, 8)
+    target = np.array([[1.0, 0.7, -0.3], [0.7, 1.0, 0.0], [-0.3, 0.0, 1.0]])
+    v = impose_rank_correlation(u, target, 8)
+    rho = stats.spearmanr(v).statistic
+    assert rho == pytest.approx(target, abs=0.03)
+    assert np.array_equal(np.sort(v, axis=0), np.sort(u, axis=0))
+
+
+def test_sobol_indices_of_the_ishigami_function():
+    """Ishigami and Homma (1990), a = 7, b = 0.1, inputs uniform on [-pi, pi].
+
+    Analytical: V = a2/8 + b pi4/5 + b2 pi8/18 + 1/2; V1 = (1 + b pi4/5)2 / 2,
+    V2 = a2/8, V13 = b2 pi8 (1/18 - 1/50): S1 = 0.3139, S2 = 0.4424, S3 = 0,
+    ST1 = 0.5576, ST2 = 0.4424, ST3 = 0.2437 (docs/references.md).
+    """
+    a, b, pi = 7.0, 0.1, math.pi
+    v = a * a / 8 + b * pi ** 4 / 5 + b * b * pi ** 8 / 18 + 0.5
+    v1, v2, v13 = 0.5 * (1 + b * pi ** 4 / 5) ** 2, a * a / 8, b * b * pi ** 8 * (1 / 18 - 1 / 50)
+    first, total = [v1 / v, v2 / v, 0.0], [(v1 + v13) / v, v2 / v, v13 / v]
+    assert first == pytest.approx([0.3139, 0.4424, 0.0], abs=1e-4)
+    assert total == pytest.approx([0.5576, 0.4424, 0.2437], abs=1e-4)
+    uniform = Distribution("uniform", low=-pi, high=pi)
+    x = sobol_plan([uniform] * 3, 2 ** 13, seed=3)
+    y = np.sin(x[:, 0]) + a * np.sin(x[:, 1]) ** 2 + b * x[:, 2] ** 4 * np.sin(x[:, 0])
+    si = sobol_indices(["x1", "x2", "x3"], y, seed=3)
+    assert si.first == pytest.approx(first, abs=0.03)
+    assert si.total == pytest.approx(total, abs=0.03)
+
+
+# ---------------------------------------------------------------------------
+# the case table and the command
+
+
+def _with(table: str) -> str:
+    return DEMO + table
+
+
+@pytest.mark.parametrize("table,field", [
+    ("""[uncertainty]\nscenarios = 10\n[[uncertainty.inputs]]\ninput = "economics.power"
+distribution = "uniform"\nlow = 0.05\nhigh = 0.09\n""", "uncertainty.inputs[0].input"),
+    ("""[uncertainty]\nscenarios = 10\n[[uncertainty.inputs]]
+input = "economics.power_price_per_kwh"\ndistribution = "triangular"\nlow = 0.05\nhigh = 0.09\n""",
+     "uncertainty.inputs[0].mode"),
+    ("""[uncertainty]\nscenarios = 10\n[[uncertainty.inputs]]
+input = "economics.power_price_per_kwh"\ndistribution = "uniform"\nlow = 0.09\nhigh = 0.05\n""",
+     "uncertainty.inputs[0].high"),
+    ("""[uncertainty]\nscenarios = 10\n[[uncertainty.inputs]]
+input = "economics.power_price_per_kwh"\ndistribution = "normal"\nmean = 0.07
+standard_deviation = 0.03\n""", "uncertainty.inputs[0].low"),
+    ("""[uncertainty]\nscenarios = 10\n[[uncertainty.inputs]]
+input = "sources.nosuch.price_per_kmol"\ndistribution = "uniform"\nlow = 1.0\nhigh = 2.0\n""",
+     "uncertainty.inputs[0].input"),
+    ("""[uncertainty]\nscenarios = 10\n[[uncertainty.inputs]]
+input = "economics.power_price_per_kwh"\ndistribution = "uniform"\nlow = 0.05\nhigh = 0.09
+[[uncertainty.inputs]]\ninput = "economics.fuel_price_per_gj"\ndistribution = "uniform"
+low = 5.0\nhigh = 9.0\n[[uncertainty.inputs]]\ninput = "sources.standard.price_per_kmol"
+distribution = "uniform"\nlow = 2.0\nhigh = 2.6
+[[uncertainty.correlations]]
+inputs = ["economics.power_price_per_kwh", "economics.fuel_price_per_gj"]
+rank_correlation = 0.9
+[[uncertainty.correlations]]
+inputs = ["economics.power_price_per_kwh", "sources.standard.price_per_kmol"]
+rank_correlation = 0.9
+[[uncertainty.correlations]]
+inputs = ["economics.fuel_price_per_gj", "sources.standard.price_per_kmol"]
+rank_correlation = -0.9\n""", "uncertainty.correlations"),
+])
+def test_bad_uncertainty_tables_are_refused_naming_the_field(table, field):
+    with pytest.raises(CaseError) as exc:
+        parse_case_text(_with(table))
+    assert exc.value.path == field
+
+
+def test_an_emission_price_needs_an_emissions_line():
+    text = re.sub(r"\nco2_price_per_t = [^\n]*", "\n", DEMO)
+    table = """[uncertainty]\nscenarios = 10\n[[uncertainty.inputs]]
+input = "economics.co2_price_per_t"\ndistribution = "uniform"\nlow = 50.0\nhigh = 120.0\n"""
+    with pytest.raises(CaseError) as exc:
+        parse_case_text(text + table)
+    assert exc.value.path == "uncertainty.inputs[0].input" and "co2_price_per_t" in str(exc.value)
+
+
+def _small_case(tmp_path) -> Path:
+    """The demo with two square alternatives left and a short scenario table."""
+    keep = """
+[[alternatives]]
+name = "standard to fuel"
+choices = { makeup_grade = "standard", purge_destination = "fuel", recovery = "none" }
+
+[[alternatives]]
+name = "purified to fuel"
+choices = { makeup_grade = "purified", purge_destination = "fuel", recovery = "none" }
+"""
+    path = tmp_path / "case.toml"
+    path.write_text(DEMO + keep + UNCERTAINTY)
+    return path
+
+
+def test_the_command_writes_the_uncertainty_block(tmp_path, capsys):
+    out = tmp_path / "u.json"
+    assert main(["scenarios", str(_small_case(tmp_path)), "--json", str(out), "--plots",
+                 str(tmp_path / "plots")]) == 0
+    doc = json.loads(out.read_text())["uncertainty"]
+    assert doc["scenarios"] == doc["scenarios_finished"] == 40 and doc["seed"] == 5
+    assert set(doc["alternatives"]) == {"standard to fuel", "purified to fuel"}
+    for rec in doc["alternatives"].values():
+        assert set(rec["tac_percentiles"]) == set(rec["purge_fraction_percentiles"]) \
+            == {"P10", "P50", "P90"}
+        assert rec["tac_percentiles"]["P10"] <= rec["tac_percentiles"]["P50"] \
+            <= rec["tac_percentiles"]["P90"]
+        assert rec["expected_regret"] >= 0.0
+    assert sum(r["probability_best"] for r in doc["alternatives"].values()) == pytest.approx(1)
+    assert (tmp_path / "plots" / "price_scenarios.png").stat().st_size > 10_000
+    assert "best in" in capsys.readouterr().out
+
+
+def test_the_command_without_a_table_says_where_to_find_one(tmp_path, capsys):
+    path = tmp_path / "case.toml"
+    path.write_text(DEMO)
+    assert main(["scenarios", str(path), "--json", str(tmp_path / "u.json")]) == 2
+    err = capsys.readouterr().err.strip().splitlines()
+    assert len(err) == 1 and err[0].startswith("purgeplan: error: uncertainty: ")
+    assert not (tmp_path / "u.json").exists()
