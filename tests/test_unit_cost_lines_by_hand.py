@@ -388,3 +388,14 @@ supply_pressure_bar = 28
     loop = purgeplan.build_loop(parse_case_text(text))
     value = costs.reactant_value_per_kmol(loop, {"syngas": 1000.0, "argon": 50.0})
     assert value == pytest.approx({"H2": 2.0 / 0.99, "N2": 2.0 / 0.99}, rel=1e-12)
+
+
+def test_the_reactants_do_not_depend_on_how_the_reaction_is_scaled():
+    """The same synthesis written a quarter as large, 0.25 N2 + 0.75 H2 = 0.5 NH3: the
+    reactants are still H2 and N2 (consumed, a negative coefficient), not the product."""
+    text = case_text().replace("stoichiometry = { N2 = -1, H2 = -3, NH3 = 2 }",
+                               "stoichiometry = { N2 = -0.25, H2 = -0.75, NH3 = 0.5 }")
+    loop = purgeplan.build_loop(parse_case_text(text))
+    value = costs.reactant_value_per_kmol(loop, {"syngas": 1000.0, "hydrogen": 100.0})
+    assert value == pytest.approx({"H2": (660.0 * 2.0 / 0.99 + 250.0) / 760.0,
+                                   "N2": 2.0 / 0.99}, rel=1e-12)
