@@ -236,3 +236,47 @@ def test_evaluate_reports_the_state_and_the_limit_not_met():
     assert "cannot be met at the purge fraction 0.001" in at.message
     ok = purgeplan.solve.evaluate_at(loop, 0.03)
     assert ok.status is Status.OPTIMAL and ok.binding_constraints == []
+
+
+def test_lp_repriced_in_place_gives_the_lp_built_at_the_new_prices():
+    """One model re-priced through its price parameters against a model built at those prices."""
+    import dataclasses
+
+    loop = _blend_loop()
+    # the pure grade now cheaper than the limited one (the blend turns over), dearer power
+    # and a dearer compressor (its capital tangent must move)
+    compressor = loop.prices.compressor_capital
+    dearer = dataclasses.replace(loop, prices=dataclasses.replace(
+        loop.prices, power_price_per_kwh=2.0 * loop.prices.power_price_per_kwh,
+        source_price_per_kmol={**loop.prices.source_price_per_kmol, "pure": 1.5},
+        compressor_capital=dataclasses.replace(compressor,
+                                               reference_cost=1.5 * compressor.reference_cost)))
+    repriced = LoopLP(loop)
+    for a in (0.01, 0.03):
+        repriced.evaluate(a)
+    assert repriced.can_reprice_lp(dearer)
+    repriced.reprice_lp(dearer)
+    fresh = LoopLP(dearer)
+    for a in (0.03, 0.01, 0.04):  # first where the capital sizes have not moved
+        mine, theirs = repriced.evaluate(a), fresh.evaluate(a)
+        assert mine.tac_per_year == pytest.approx(theirs.tac_per_year, rel=1e-9)
+        assert mine.sources == pytest.approx(theirs.sources, rel=1e-7, abs=1e-9)
+        assert repriced.lp.objective_value() == pytest.approx(fresh.lp.objective_value(),
+                                                              rel=1e-9)
+    assert repriced.evaluate(0.02).sources != pytest.approx(
+        LoopLP(loop).evaluate(0.02).sources, rel=1e-3)  # the blend did turn over
+    # capital dearer alone, at the purge fraction solved last: the sizes stay where they
+    # were, and the capital tangents must still move to the new cost
+    capital_only = dataclasses.replace(loop, prices=dataclasses.replace(
+        loop.prices, compressor_capital=dearer.prices.compressor_capital))
+    again, fresh = LoopLP(loop), LoopLP(capital_only)
+    again.evaluate(0.02)
+    again.reprice_lp(capital_only)
+    again.evaluate(0.02)
+    fresh.evaluate(0.02)
+    assert again.lp.objective_value() == pytest.approx(fresh.lp.objective_value(), rel=1e-9)
+    # a discount rate moves the annualised catalyst charge, a constant of the LP: rebuilt
+    other_rate = dataclasses.replace(loop, prices=dataclasses.replace(loop.prices,
+                                                                      discount_rate=0.12))
+    assert not LoopLP(loop).can_reprice_lp(other_rate)
+    assert not LoopLP(loop).can_reprice_lp(dataclasses.replace(loop, pressure_bar=180.0))

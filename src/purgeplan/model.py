@@ -84,10 +84,28 @@ def add_limits(m: pyo.ConcreteModel, loop: Loop, q: dict) -> None:
     m.limit = pyo.Constraint(m.LIMIT, rule=rule)
 
 
+def price_keys(loop: Loop) -> list[str]:
+    """The assumptions that enter the LP's objective linearly: prices and hours on stream.
+
+    They are mutable parameters ``m.price[key]`` of the model, so that one
+    model serves the loop at other prices (see
+    :meth:`purgeplan.reduced_space.LoopLP.reprice_lp`); the capital lines
+    enter through tangents the solve layer sets.
+    """
+    keys = {"hours_per_year"}
+    for line in costs.cost_lines(loop):
+        if line.kind in ("hourly", "replacement"):
+            keys.add(line.price)
+    return sorted(keys)
+
+
 def add_costs(m: pyo.ConcreteModel, loop: Loop, q: dict, capital: str) -> None:
     """Cost lines as Expressions ``m.cost[key]`` and the objective ``m.tac`` [currency/year]."""
     lines = costs.cost_lines(loop)
     table = costs.values(costs.assumptions(loop))
+    m.PRICE = pyo.Set(initialize=price_keys(loop))
+    m.price = pyo.Param(m.PRICE, mutable=True, initialize={k: table[k] for k in m.PRICE})
+    table = {**table, **{k: m.price[k] for k in m.PRICE}}
     capital_keys = [line.key for line in lines if line.kind == "capital"]
     m.CAPITAL = pyo.Set(initialize=capital_keys)
     m.capital_size0 = pyo.Param(m.CAPITAL, mutable=True, initialize=1.0)

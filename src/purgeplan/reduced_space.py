@@ -49,6 +49,13 @@ def _physics(loop: Loop) -> Loop:
                                makeup_efficiency=0.0)
 
 
+def _lp_constants(loop: Loop) -> tuple:
+    """The economic inputs the LP holds as constants: replacement charges' annualisation."""
+    table = costs.values(costs.assumptions(loop))
+    return (table["discount_rate"],) + tuple(
+        table[line.life] for line in costs.cost_lines(loop) if line.kind == "replacement")
+
+
 class LoopLP:
     """The reduced-space LP of one loop, evaluated at fixed design variables.
 
@@ -324,6 +331,37 @@ class LoopLP:
         and only the costs (and the limit margins) need evaluating again.
         """
         return self.square and _physics(loop) == _physics(self.loop)
+
+    def can_reprice_lp(self, loop: Loop) -> bool:
+        """Whether ``loop`` differs from this one only in what the LP takes as parameters.
+
+        That is the same physics, and prices, hours on stream or capital
+        inputs that differ (capital enters through tangents the solver sets);
+        the annualisation of replacement charges is a constant of the LP.
+        """
+        return (self.use_highs and _physics(loop) == _physics(self.loop)
+                and _lp_constants(loop) == _lp_constants(self.loop))
+
+    def reprice_lp(self, loop: Loop, time_limit_s: float | None = None) -> None:
+        """Take the prices of ``loop`` into the LP, keeping its starting points.
+
+        The states found at the old prices are dropped (the LP's choice may
+        change with prices); the converged conversions, recycle work and
+        secant slopes stay as starting points, and the capital tangents are
+        moved to the new capital costs at the next solve.
+        """
+        if not self.can_reprice_lp(loop):
+            raise ValueError("reprice_lp needs the same loop physics on the HiGHS route")
+        from .model import price_keys
+
+        self.loop = loop
+        self.pricing = costing(loop)
+        table = self.pricing[1]
+        for key in price_keys(loop):
+            self.model.price[key] = table[key]
+        self.sizes = {}
+        self.states, self.margins, self.reasons, self.unlimited = {}, {}, {}, {}
+        self.restart(time_limit_s)
 
     def reprice(self, loop: Loop, time_limit_s: float | None = None) -> None:
         """Take the prices of ``loop``, re-costing every converged state (see can_reprice)."""

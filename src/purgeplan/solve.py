@@ -144,7 +144,9 @@ def optimise(loop: Loop, *, scan_points: int = SCAN_POINTS, xtol_rel: float = 1e
     reuse : LoopLP, optional
         A solver of the same alternative at other prices or assumptions: its
         converged states are re-costed instead of solved again where
-        :meth:`LoopLP.can_reprice`, and otherwise give the starting conversions.
+        :meth:`LoopLP.can_reprice`; on the HiGHS route its LP takes the new
+        prices where :meth:`LoopLP.can_reprice_lp`; otherwise it gives the
+        starting conversions.
     route : {"auto", "highs"}
         See :class:`purgeplan.reduced_space.LoopLP`.
 
@@ -161,6 +163,9 @@ def optimise(loop: Loop, *, scan_points: int = SCAN_POINTS, xtol_rel: float = 1e
             raise InfeasibleError(pre)
         if reuse is not None and reuse.can_reprice(loop):
             reuse.reprice(loop, time_limit_s)
+            solver = reuse
+        elif reuse is not None and reuse.can_reprice_lp(loop):
+            reuse.reprice_lp(loop, time_limit_s)
             solver = reuse
         else:
             solver = LoopLP(loop, time_limit_s=time_limit_s, solver_options=solver_options,
