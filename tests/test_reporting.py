@@ -110,9 +110,9 @@ def _blocks(wb) -> dict[str, dict[str, tuple]]:
     """Cost build-up rows by alternative name, then by item: (quantity, unit, note)."""
     out: dict[str, dict[str, tuple]] = {}
     current = None
-    for item, _kind, qty, unit, _cost, note in wb[workbook.COSTS].iter_rows(
-            min_row=3, max_col=6, values_only=True):
-        if isinstance(item, str) and (m := re.match(r"Alternative \d+: (.*) \(", item)):
+    for item, _kind, qty, unit, _cost, _qty_now, _cost_now, note in wb[workbook.COSTS].iter_rows(
+            min_row=3, max_col=8, values_only=True):
+        if isinstance(item, str) and (m := re.match(r"Option key: (.*)$", item)):
             current = out.setdefault(m.group(1), {})
         elif current is not None and isinstance(item, str):
             current[item] = (qty, unit, note)

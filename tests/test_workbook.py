@@ -108,18 +108,21 @@ def recalculate(src: Path, workdir: Path) -> Path:
 
 
 def cost_cells(wb) -> dict[int, dict]:
-    """Cost build-up values by alternative number: lines by key, TAC, tonnes, per tonne."""
+    """Cost build-up values by alternative number (A1 is 1): lines by key, TAC, tonnes, per
+    tonne, and the lines and TAC at the present purge fraction."""
     ws = wb[workbook.COSTS]
     out: dict[int, dict] = {}
     current = None
-    for a, kind, qty, _unit, cost, _recipe, key in ws.iter_rows(min_row=3, max_col=7,
-                                                                 values_only=True):
-        if isinstance(a, str) and (m := re.match(r"Alternative (\d+): ", a)):
-            current = out.setdefault(int(m.group(1)), {"lines": {}})
+    for a, kind, qty, _unit, cost, _qty_now, cost_now, _recipe, key in ws.iter_rows(
+            min_row=3, max_col=9, values_only=True):
+        if isinstance(a, str) and (m := re.match(r"A(\d+) .* \((rank \d+|not ranked)", a)):
+            current = out.setdefault(int(m.group(1)), {"lines": {}, "present": {}})
         elif kind in ("hourly", "capital", "replacement"):
             current["lines"][key] = cost
+            current["present"][key] = cost_now
         elif a == "Total annualised cost (TAC)":
             current["tac"] = cost
+            current["present_tac"] = cost_now
         elif a == "Annual product":
             current["tonnes"] = qty
         elif isinstance(a, str) and a.startswith("Cost per tonne"):
@@ -128,7 +131,20 @@ def cost_cells(wb) -> dict[int, dict]:
 
 
 def numbered(study):
-    return list(enumerate(study.alternatives, start=1))
+    """(number, alternative) pairs: the number of its code, A1 is 1."""
+    return [(int(a.code[1:]), a) for a in study.alternatives]
+
+
+def alternatives_table(ws) -> dict[str, dict]:
+    """The Ranking sheet's table of alternatives by code, rows keyed by the header texts."""
+    head = next(c.row for c in ws["A"] if c.value == "Code")
+    header = [c.value for c in ws[head]]
+    rows = {}
+    for row in ws.iter_rows(min_row=head + 1, values_only=True):
+        if not (isinstance(row[0], str) and re.fullmatch(r"A\d+", row[0])):
+            break
+        rows[row[0]] = dict(zip(header, row, strict=False))
+    return rows
 
 
 # ---------------------------------------------------------------------------
@@ -151,14 +167,19 @@ def test_sheets_names_and_layout(study):
     assert "price_per_kmol_standard" in wb.defined_names
     # only the alternative with its own power price has its own cell
     dear = next(i for i, a in numbered(study) if a.name == NAMES["dear"])
-    assert [n for n in wb.defined_names if "_alt" in n] == [f"power_price_per_kwh_alt{dear}"]
-    # one scatter chart per feasible alternative, the optimum as a one-point series
-    charts = wb[workbook.CURVES]._charts
-    assert len(charts) == len(study.ranked)
-    for chart in charts:
-        assert chart.tagname == "scatterChart" and len(chart.series) == 2
-        ref = chart.series[1].yVal.numRef.f
-        assert re.fullmatch(r"'Cost curves'!\$B\$\d+", ref), ref
+    assert [n for n in wb.defined_names if re.search(r"_A\d+$", n)] == \
+        [f"power_price_per_kwh_A{dear}"]
+    # one combined scatter chart: a curve per feasible alternative, then the optima and the
+    # points where a limit stops a curve, each a series of one point per alternative
+    (chart,) = wb[workbook.CURVES]._charts
+    assert chart.tagname == "scatterChart"
+    assert len(chart.series) == len(study.ranked) + 2
+    n = len(study.ranked)
+    for series, col in ((chart.series[n], "C"), (chart.series[n + 1], "E")):
+        ref = series.yVal.numRef.f
+        assert re.fullmatch(rf"'Cost curves'!\${col}\$(\d+):\${col}\$(\d+)", ref), ref
+        first, last = map(int, re.findall(r"\d+", ref))
+        assert last - first + 1 == n
     assert [c.tagname for c in wb[workbook.SENSITIVITY]._charts] == ["barChart"]
 
 
@@ -176,10 +197,10 @@ def test_cautions_method_and_provenance(study):
     assert {a.optimum.solver.method for a in study.alternatives if a.optimum.solver.method} \
         <= notes
     # infeasible twin: no rank, its reason shown on the Ranking sheet
-    ranking = {row[1]: row for row in wb[workbook.RANKING].iter_rows(min_row=2,
-                                                                     values_only=True)}
+    ranking = {row["Option key"]: row for row in alternatives_table(wb[workbook.RANKING]).values()}
     tight = ranking[NAMES["tight"]]
-    assert tight[0] == "-" and tight[10] == "no" and "inert limit" in tight[12]
+    assert tight["Rank computed at the case prices"] == "-"
+    assert tight["Status"] == "infeasible" and "inert limit" in tight["At limit"]
 
 
 def _shown(value):
@@ -212,10 +233,10 @@ def test_sensitivity_sheet_writes_every_record_field(study):
         for name, swing in rec.tac.items():
             i = next(k for k, a in numbered(study) if a.name == name)
             for side in ("low", "base", "high"):
-                assert cells[f"Alt. {i} TAC at {side} [EUR/year]"] == _shown(getattr(swing,
-                                                                                     side))
-        assert cells["Best at low"] == _shown(rec.best_at_low)
-        assert cells["Best at high"] == _shown(rec.best_at_high)
+                assert cells[f"A{i} TAC at {side} [EUR/year]"] == _shown(getattr(swing, side))
+        for side in ("low", "high"):
+            best = study.by_name(getattr(rec, f"best_at_{side}"))
+            assert cells[f"Best at {side}"] == f"{best.code} {best.label}"
         assert cells["Best changes"] == ("yes" if rec.best_changes else "no")
         assert cells["Note"] == (rec.note or "")
     hours = next(r for r in rows if r["Lever"] == "hours_per_year")
@@ -232,13 +253,19 @@ def test_break_even_table_writes_every_record_field(study):
     for cells, rec in zip(rows, study.break_even, strict=True):
         assert cells["Purer grade"] == rec.grade
         assert cells["Base grade"] == rec.base_grade
-        assert cells["Alternative (purer grade)"] == rec.alternative
-        assert cells["Base alternative"] == rec.base_alternative
+        for column, name in (("Alternative (purer grade)", rec.alternative),
+                             ("Base alternative", rec.base_alternative)):
+            alt = study.by_name(name)
+            assert cells[column] == f"{alt.code} {alt.label}"
         assert cells["Base price [EUR/kmol]"] == rec.base_price_per_kmol
         assert cells["Grade price [EUR/kmol]"] == rec.grade_price_per_kmol
         assert cells["Tie price [EUR/kmol]"] == _shown(rec.tie_price_per_kmol)
         assert cells["Premium [EUR/kmol]"] == _shown(rec.premium_per_kmol)
-        assert cells["Premium [%]"] == _shown(rec.premium_percent)
+        assert cells["Premium [% of base price]"] == _shown(rec.premium_percent)
+        quoted = rec.grade_price_per_kmol - rec.base_price_per_kmol
+        assert cells["Quoted premium now [EUR/kmol]"] == f"=price_per_kmol_{rec.grade}" \
+            f"-price_per_kmol_{rec.base_grade}"
+        assert quoted == pytest.approx(0.12, rel=1e-9)   # the demo's 2.42 against 2.30
         assert cells["TAC at tie [EUR/year]"] == _shown(rec.tac_at_tie_per_year)
         assert cells["Note"] == (rec.note or "")
 
@@ -280,9 +307,7 @@ def test_recalculated_costs_equal_engine(study, recalculated):
     """Source: purgeplan.costs.evaluate (engine) vs LibreOffice Calc evaluating the formulas."""
     wb = openpyxl.load_workbook(recalculated, data_only=True)
     cells = cost_cells(wb)
-    ranking = {row[2]: row for row in wb[workbook.RANKING].iter_rows(min_row=2,
-                                                                     values_only=True)
-               if isinstance(row[2], int | float)}
+    ranking = alternatives_table(wb[workbook.RANKING])
     checked = 0
     for i, alt in numbered(study):
         if not alt.optimum.feasible:
@@ -297,8 +322,14 @@ def test_recalculated_costs_equal_engine(study, recalculated):
         assert got["tonnes"] == pytest.approx(s.quantities["product_t_h"]
                                               * alt.loop.prices.hours_per_year, rel=REL)
         assert got["per_tonne"] == pytest.approx(s.cost_per_tonne_product, rel=REL)
-        assert ranking[i][8] == pytest.approx(s.tac_per_year, rel=REL)
-        assert ranking[i][9] == pytest.approx(s.cost_per_tonne_product, rel=REL)
+        row = ranking[f"A{i}"]
+        assert row["TAC [EUR/year]"] == pytest.approx(s.tac_per_year, rel=REL)
+        assert row["Cost per tonne [EUR/t]"] == pytest.approx(s.cost_per_tonne_product, rel=REL)
+        assert row["Rank at the prices in this workbook"] == alt.rank
+        present = alt.present.state
+        assert got["present_tac"] == pytest.approx(present.tac_per_year, rel=REL)
+        for key, want in present.costs.items():
+            assert got["present"][key] == pytest.approx(want, rel=REL), (alt.name, key)
         checked += 1
     assert checked == 3
     summary = {row[0]: row[1] for row in wb[workbook.SUMMARY].iter_rows(values_only=True)}
@@ -312,13 +343,13 @@ def test_changed_prices_reprice_every_alternative(study, written, tmp_path):
     """Source: costs.evaluate on the same quantities with the changed assumption values."""
     wb = openpyxl.load_workbook(written)
     changes = {"price_per_kmol_standard": 1.25, "power_price_per_kwh": 1.4}
-    changes.update({n: 0.8 for n in wb.defined_names if n.startswith("power_price_per_kwh_alt")})
+    changes.update({n: 0.8 for n in wb.defined_names if n.startswith("power_price_per_kwh_A")})
     new_values = {}
     for name, factor in changes.items():
         (sheet, ref), = wb.defined_names[name].destinations
         cell = wb[sheet][ref.replace("$", "")]
         cell.value = new_values[name] = cell.value * factor
-    own = [n for n in new_values if "_alt" in n]
+    own = [n for n in new_values if re.search(r"_A\d+$", n)]
     assert len(own) == 1, "the alternative with its own power price has its own cell"
     repriced = tmp_path / "repriced.xlsx"
     wb.save(repriced)
@@ -331,7 +362,7 @@ def test_changed_prices_reprice_every_alternative(study, written, tmp_path):
             continue
         values = costs.values(costs.assumptions(alt.loop))
         for base, key in keys.items():
-            used = f"{base}_alt{i}" if f"{base}_alt{i}" in new_values else base
+            used = f"{base}_A{i}" if f"{base}_A{i}" in new_values else base
             if key in values and used in new_values:
                 values[key] = new_values[used]
         state = alt.optimum.state
@@ -348,17 +379,20 @@ def test_case_text_shown_as_text_after_round_trip(study, recalculated):
     """Names beginning with = + - @ stay the typed text in LibreOffice, never evaluated."""
     values = openpyxl.load_workbook(recalculated, data_only=True)
     formulas = openpyxl.load_workbook(recalculated)
-    ranking_rows = range(2, 2 + len(study.alternatives))
-    assert [values[workbook.RANKING].cell(r, 2).value for r in ranking_rows] == \
-        [a.name for a in study.alternatives]
-    for r in ranking_rows:
-        assert formulas[workbook.RANKING].cell(r, 2).data_type == "s"
+    table = alternatives_table(values[workbook.RANKING])
+    by_code = sorted(study.alternatives, key=lambda a: int(a.code[1:]))
+    assert [row["Option key"] for row in table.values()] == [a.name for a in by_code]
+    head = next(c.row for c in formulas[workbook.RANKING]["A"] if c.value == "Code")
+    for r in range(head + 1, head + 1 + len(by_code)):
+        for col in (2, 16):     # the label and the option key
+            assert formulas[workbook.RANKING].cell(r, col).data_type == "s"
     for sheet, ref in ((workbook.SUMMARY, "B2"), (workbook.NOTES, "B4")):
         assert values[sheet][ref].value == CASE_NAME
         assert formulas[sheet][ref].data_type == "s"
     costs_sheet = [c.value for c in values[workbook.COSTS]["A"] if isinstance(c.value, str)]
     for i, alt in numbered(study):
-        assert any(v.startswith(f"Alternative {i}: {alt.name} (") for v in costs_sheet)
+        assert any(v.startswith(f"A{i} {alt.name} (") for v in costs_sheet)
+        assert f"Option key: {alt.name}" in costs_sheet
 
 
 # ---------------------------------------------------------------------------

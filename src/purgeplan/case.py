@@ -256,6 +256,8 @@ class UncertaintySpec(_Strict):
 class AlternativeSpec(_Strict):
     name: Name
     choices: dict[Name, Name]
+    #: The alternative in words, shown after its code (A1, A2, ...); default: its choices.
+    label: Annotated[str, Field(min_length=1, max_length=MAX_LABEL_CHARS)] | None = None
 
 
 class Case(_Strict):
@@ -276,9 +278,9 @@ class Case(_Strict):
     options: dict[Name, dict[Name, dict[str, Any]]] = {}
     alternatives: list[AlternativeSpec] = []
     exclude: list[dict[Name, Name]] = []
+    uncertainty: UncertaintySpec | None = None
 
     @model_validator(mode="after")
-    uncertainty: UncertaintySpec | None = None
     def _cross_checks(self):
         check_case(self)
         check_property_data(self)
@@ -318,8 +320,6 @@ def check_case(case: Case) -> None:
     _check_recovery_and_economics(case, need)
     _check_recovery_unit_in_use(case)
     _check_options(case)
-
-
     _check_uncertainty(case)
 
 
@@ -440,6 +440,8 @@ def correlation_matrix(u: UncertaintySpec):
     except np.linalg.LinAlgError:
         return None
     return m
+
+
 def _component_check(case: Case) -> _Need:
     """A function that refuses a name that is not a declared component, with a hint."""
     known = sorted(case.components)
@@ -749,6 +751,16 @@ def _check_options(case: Case) -> None:
     names = [a.name for a in case.alternatives]
     if len(set(names)) != len(names):
         raise CaseError("alternatives", "alternative names must be unique")
+    seen: set[str] = set()
+    for i, alt in enumerate(case.alternatives):
+        if alt.label is None:
+            continue
+        if not alt.label.strip() or any(ord(ch) < 32 for ch in alt.label):
+            raise CaseError(f"alternatives[{i}].label", "must be text on one line, not blank")
+        if alt.label.strip().casefold() in seen:
+            raise CaseError(f"alternatives[{i}].label",
+                            f"'{alt.label}' labels another alternative too; labels must differ")
+        seen.add(alt.label.strip().casefold())
 
 
 # ---------------------------------------------------------------------------

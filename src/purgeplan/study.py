@@ -22,13 +22,14 @@ from dataclasses import dataclass, field
 
 from scipy.optimize import brentq
 
-from . import __version__
+from . import __version__, limits
 from .build import build_loop
-from .case import Case, expand_alternatives
+from .case import MAX_LABEL_CHARS, Case, expand_alternatives
 from .executor import map_tasks
 from .loop import Loop
 from .reduced_space import LoopLP
-from .solve import Optimum, optimise
+from .search import scan_and_refine
+from .solve import SIZED_SCAN_POINTS, Optimum, evaluate_at, optimise
 
 
 @dataclass
@@ -40,6 +41,25 @@ class Alternative:
     loop: Loop
     optimum: Optimum
     rank: int | None = None
+    #: Short code, "A1", "A2", ...: the number ``check`` gives the alternative.
+    code: str = ""
+    #: The alternative in words: the case's own label, or its choices in words.
+    label: str = ""
+    #: The alternative at the case's present purge fraction (:func:`purgeplan.solve.evaluate_at`).
+    present: Optimum | None = None
+    #: TAC at each purge fraction of :attr:`StudyResult.grid` [currency/year]; None where
+    #: the loop has no feasible state there.
+    grid_tac: list[float | None] = field(default_factory=list)
+    #: Where the cost curve stops at its low-purge end because a limit binds:
+    #: (purge fraction, TAC, limit names); None where it does not stop inside the grid.
+    curve_edge: tuple[float, float, tuple[str, ...]] | None = None
+
+    @property
+    def title(self) -> str:
+        """Code and label, "A5 blend gas, purge to fuel, membrane" (the name without a code)."""
+        if not self.code:
+            return self.label or self.name
+        return f"{self.code} {self.label}" if self.label else self.code
 
 
 @dataclass(frozen=True)
@@ -113,6 +133,11 @@ class StudyResult:
     break_even: list[BreakEven] = field(default_factory=list)
     sensitivity: list[SensitivityRow] = field(default_factory=list)
     sensitivity_fraction: float = 0.2
+    #: The even grid of purge fractions every alternative's TAC is given on [-].
+    grid: list[float] = field(default_factory=list)
+
+    def by_name(self, name: str | None) -> Alternative | None:
+        return next((a for a in self.alternatives if a.name == name), None)
 
     @property
     def ranked(self) -> list[Alternative]:
@@ -475,6 +500,204 @@ def break_even(alternatives: list[Alternative]) -> list[BreakEven]:
 
 
 # ---------------------------------------------------------------------------
+# labels
+
+
+def _number_text(value) -> str:
+    return f"{value:g}" if isinstance(value, int | float) else str(value)
+
+
+def choice_words(option: str, choice: str, patch: Mapping) -> str:
+    """One option choice in words, from what its patch of the case changes.
+
+    A make-up grade reads "standard gas", a purge destination "purge to fuel",
+    a recovery unit its name (or "no recovery"), a loop pressure "150 bar";
+    any other choice reads as its option and choice, "power dear".
+    """
+    words = []
+    if "makeup_sources" in patch:
+        words.append(f"{choice} gas")
+    purge = patch.get("purge") if isinstance(patch.get("purge"), Mapping) else {}
+    if "destination" in purge:
+        words.append(f"purge to {purge['destination']}")
+    if "recovery" in purge:
+        words.append("no recovery" if purge["recovery"] == "none" else str(purge["recovery"]))
+    loop = patch.get("loop") if isinstance(patch.get("loop"), Mapping) else {}
+    if "pressure_bar" in loop:
+        words.append(f"{_number_text(loop['pressure_bar'])} bar")
+    return ", ".join(words) or f"{option.replace('_', ' ')} {choice}"
+
+
+def alternative_labels(case: Case, named: list[tuple[str, dict[str, str]]]
+                       ) -> list[tuple[str, str]]:
+    """Code ("A1", "A2", ... in the order given) and label in words of each alternative.
+
+    The label is the case's own (``alternatives[].label``, or the name the
+    case gives an alternative where it fits in :data:`MAX_LABEL_CHARS`), else
+    the choices in words in option order (:func:`choice_words`), else the
+    name (the base case of a case without options).
+    """
+    own = {a.name: a.label or (a.name if len(a.name) <= MAX_LABEL_CHARS else None)
+           for a in case.alternatives}
+    own = {name: label for name, label in own.items() if label}
+    out = []
+    for i, (name, choices) in enumerate(named, start=1):
+        words = own.get(name) or ", ".join(
+            choice_words(o, choices[o], case.options.get(o, {}).get(choices[o], {}))
+            for o in sorted(choices)) or name
+        out.append((f"A{i}", words))
+    return out
+
+
+# ---------------------------------------------------------------------------
+# the present operation and the cost curves on one grid
+
+#: Points of the even grid of purge fractions the cost curves are given on.
+GRID_POINTS = 28
+_NICE_STEPS = (1.0, 2.0, 2.5, 5.0, 10.0)
+
+
+def purge_grid(optima: list[float], lo: float, hi: float, points: int = GRID_POINTS
+               ) -> list[float]:
+    """An even grid of purge fractions with a round step, reaching twice the largest optimum.
+
+    The step is the smallest of 1, 2, 2.5 or 5 times a power of ten that
+    covers twice the largest optimum in ``points`` steps; the grid runs from
+    one step up to that, kept inside the allowed box [lo, hi].
+    """
+    top = 2.0 * max(optima)
+    raw = top / points
+    power = 10.0 ** math.floor(math.log10(raw))
+    step = next(m * power for m in _NICE_STEPS if m * power >= raw * (1 - 1e-12))
+    grid = [round(k * step, 12) for k in range(1, points + 1)]
+    return [a for a in grid if lo <= a <= hi] or [min(max(top / 2, lo), hi)]
+
+
+def _grid_objective(loop: Loop, solver: LoopLP):
+    """TAC at a purge fraction (inf where infeasible); a sized reactor's conversion optimised."""
+    k = loop.sized_reaction
+    if k is None:
+        return solver.tac
+    s = loop.reactions[k].sizing
+
+    def f(a):
+        return scan_and_refine(lambda x: solver.tac(a, x), s["conversion_min"],
+                               s["conversion_max"], SIZED_SCAN_POINTS, 1e-6)[1]
+    return f
+
+
+def cost_on_grid(alt: Alternative, grid: list[float]) -> None:
+    """The alternative's TAC on the grid, and where its curve stops at the low-purge end.
+
+    Between the first feasible grid point (or the optimum, where that comes
+    first) and the infeasible grid point below it the edge is found by
+    bisection to a relative 1e-4; its limit is the one nearest its bound
+    there (:func:`purgeplan.limits.margin`), none where the loop has no
+    steady state beyond the edge.
+    """
+    solver = LoopLP(alt.loop)
+    f = _grid_objective(alt.loop, solver)
+    alt.grid_tac = [v if math.isfinite(v) else None for v in map(f, grid)]
+    alt.curve_edge = None
+    first = next((k for k, v in enumerate(alt.grid_tac) if v is not None), len(grid))
+    a_opt = alt.optimum.state.purge_fraction
+    hi = min(grid[first] if first < len(grid) else a_opt, a_opt)
+    lower = [a for a in grid if a < hi]
+    if not lower or alt.grid_tac[grid.index(lower[-1])] is not None:
+        return
+    lo = lower[-1]
+    while hi - lo > 1e-4 * hi:
+        mid = 0.5 * (lo + hi)
+        lo, hi = (lo, mid) if math.isfinite(f(mid)) else (mid, hi)
+    state = solver.evaluate(hi)
+    # a ratio held between equal bounds binds everywhere; it does not end the curve
+    bind = set(alt.optimum.binding_constraints)
+    held = {n for n in bind for one, other in (("_min:", "_max:"), ("_max:", "_min:"))
+            if n.startswith("inlet_ratio" + one) and n.replace(one, other, 1) in bind}
+    candidates = [lim for lim in solver.limits if lim.name not in held]
+    near = max(candidates, key=lambda lim: limits.margin(lim, state.quantities),
+               default=None) if state is not None else None
+    alt.curve_edge = (hi, f(hi), (near.name,) if near is not None else ())
+
+
+def present_operation(alt: Alternative) -> Optimum:
+    """The alternative at the case's present purge fraction (``loop.purge_fraction``)."""
+    return evaluate_at(alt.loop, alt.loop.purge_fraction)
+
+
+# ---------------------------------------------------------------------------
+# the decision in words
+
+
+def recommendation(study: StudyResult) -> str:
+    """The decision in one sentence, at the case prices.
+
+    The best alternative, its purge fraction and inert setpoint, its TAC,
+    and what it saves against the runner-up and against running it at the
+    case's present purge fraction.
+    """
+    best = study.best
+    cur = study.currency
+    if best is None:
+        return "No alternative meets the specification; the reason is given for each."
+    s = best.optimum.state
+    text = (f"Recommendation: {best.title}, purging {100 * s.purge_fraction:.3f} % of the "
+            f"separator vapour (inert setpoint {100 * s.inert_fraction_reactor_inlet:.2f} % at "
+            f"the reactor inlet); TAC {s.tac_per_year:,.0f} {cur}/year")
+    ranked = study.ranked
+    if len(ranked) > 1:
+        other = ranked[1]
+        text += (f", {other.optimum.state.tac_per_year - s.tac_per_year:,.0f} {cur}/year less "
+                 f"than the runner-up {other.title}")
+    present = best.present
+    a0 = best.loop.purge_fraction
+    if present is not None and present.state is not None:
+        saving = present.state.tac_per_year - s.tac_per_year
+        text += (f", and {abs(saving):,.0f} {cur}/year {'less' if saving >= 0 else 'more'} "
+                 f"than running it at the present purge fraction {100 * a0:.2f} %")
+        if not present.feasible:
+            text += " (which breaks a limit)"
+    elif present is not None:
+        text += f"; at the present purge fraction {100 * a0:.2f} % it has no steady state"
+    return text + "."
+
+
+def break_even_words(be: BreakEven, currency: str) -> str:
+    """The break-even premium in plain words: below what premium the purer grade pays, and
+    whether it pays at the quoted premium."""
+    quoted = be.grade_price_per_kmol - be.base_price_per_kmol
+    if be.premium_per_kmol is None:
+        return f"{be.grade} against {be.base_grade}: {be.note}"
+    x = be.premium_per_kmol
+    text = (f"{be.grade} ties with {be.base_grade} at a premium of {x:.4f} {currency}/kmol "
+            f"({be.premium_percent:.2f} % of the base price): ")
+    if x < 0:
+        text += (f"the break-even premium is negative, so {be.grade} loses even at the price of "
+                 f"{be.base_grade}; ")
+    else:
+        text += (f"{be.grade} pays if its premium over {be.base_grade} is below {x:.4f} "
+                 f"{currency}/kmol; ")
+    pays = quoted < x
+    return text + (f"the quoted premium is {quoted:.4f} {currency}/kmol, so {be.grade} "
+                   f"{'pays' if pays else 'does not pay'}.")
+
+
+def levers_changing_best(study: StudyResult) -> list[str]:
+    """The sensitivity moves that change the best alternative, in plain words."""
+    out = []
+    for row in study.sensitivity:
+        for side, factor, best in (("low", row.low_factor_applied, row.best_at_low),
+                                   ("high", row.high_factor_applied, row.best_at_high)):
+            first = study.best.name if study.best is not None else None
+            if best is None or best == first:
+                continue
+            alt = study.by_name(best)
+            out.append(f"{row.label} x{factor:.4g} ({side}): the best becomes "
+                       f"{alt.title if alt is not None else best}")
+    return out
+
+
+# ---------------------------------------------------------------------------
 # the study
 
 
@@ -488,8 +711,10 @@ def run_study(case: Case, case_sha256: str, *, jobs: int = 1, client=None,
     progress : callable, optional
         ``progress(stage, done_increment, stage_total)`` for a progress bar.
     """
-    alts = [Alternative(name, choices, build_loop(c, name), None)
-            for name, choices, c in expand_alternatives(case)]
+    expanded = expand_alternatives(case)
+    codes = alternative_labels(case, [(name, choices) for name, choices, _ in expanded])
+    alts = [Alternative(name, choices, build_loop(c, name), None, code=code, label=label)
+            for (name, choices, c), (code, label) in zip(expanded, codes, strict=True)]
     tick = (lambda stage, total: (lambda n: progress(stage, n, total))) if progress else (
         lambda stage, total: None)
     tasks = [Task(("base", a.name), a.loop, time_limit_s) for a in alts]
@@ -509,9 +734,17 @@ def run_study(case: Case, case_sha256: str, *, jobs: int = 1, client=None,
     be = break_even(ordered)
     if progress:
         progress("break-even", 1, 1)
+    for a in ordered:
+        a.present = present_operation(a)
+    feasible = [a for a in ordered if a.optimum.feasible]
+    grid = purge_grid([a.optimum.state.purge_fraction for a in feasible],
+                      min(a.loop.purge_fraction_min for a in feasible),
+                      max(a.loop.purge_fraction_max for a in feasible)) if feasible else []
+    for a in feasible:
+        cost_on_grid(a, grid)
     return StudyResult(
         case_name=case.case.name, case_sha256=case_sha256, tool_version=__version__,
         currency=case.economics.currency,
         created=dt.datetime.now(dt.UTC).replace(microsecond=0).isoformat(),
         alternatives=ordered, break_even=be, sensitivity=sensitivity,
-        sensitivity_fraction=frac)
+        sensitivity_fraction=frac, grid=grid)
