@@ -13,14 +13,17 @@ import dataclasses
 import json
 import math
 import re
+import tomllib
 from pathlib import Path
 
 import numpy as np
 import pytest
+from hypothesis import event, given, settings
+from hypothesis import strategies as st
 from scipy import stats
 
 from purgeplan import build_loop
-from purgeplan.case import expand_alternatives, parse_case_text
+from purgeplan.case import expand_alternatives, parse_case_text, validate_case_dict
 from purgeplan.cli import main
 from purgeplan.errors import CaseError
 from purgeplan.sampling import (
@@ -374,3 +377,80 @@ def test_the_command_without_a_table_says_where_to_find_one(tmp_path, capsys):
     err = capsys.readouterr().err.strip().splitlines()
     assert len(err) == 1 and err[0].startswith("purgeplan: error: uncertainty: ")
     assert not (tmp_path / "u.json").exists()
+
+
+# ---------------------------------------------------------------------------
+# generated tables: accepted, or refused in one line naming the field
+
+_PATHS = ["economics.power_price_per_kwh", "economics.fuel_price_per_gj",
+          "economics.discount_rate", "economics.hours_per_year", "economics.co2_price_per_t",
+          "economics.compressor_capital.reference_cost", "sources.standard.price_per_kmol",
+          "sources.none.price_per_kmol", "economics.power", "loop.pressure_bar", ""]
+_NUMBERS = st.one_of(st.floats(allow_nan=True, allow_infinity=True),
+                     st.floats(min_value=-1.0, max_value=20.0), st.integers(-5, 10_000))
+_ANY = st.one_of(_NUMBERS, st.text(max_size=4), st.booleans(), st.lists(_NUMBERS, max_size=2))
+
+
+_REQUIRED = {"uniform": ["low", "high"], "triangular": ["low", "mode", "high"],
+             "normal": ["mean", "standard_deviation", "low", "high"],
+             "lognormal": ["median", "sigma_log", "low", "high"]}
+
+
+@st.composite
+def _tables(draw):
+    """Mostly near-valid tables (sorted numbers where an order is needed), some wild."""
+    def value(numbers=True):
+        return draw(_NUMBERS if numbers and draw(st.integers(0, 4)) else _ANY)
+    inputs = []
+    for _ in range(draw(st.integers(0, 3)) if draw(st.integers(0, 5)) == 0 else
+                   draw(st.integers(1, 3))):
+        kind = draw(st.sampled_from([*_REQUIRED, "beta"] if draw(st.integers(0, 5)) == 0
+                                    else list(_REQUIRED)))
+        path = draw(st.sampled_from(_PATHS if draw(st.integers(0, 4)) == 0 else _PATHS[:7]))
+        spec = {"input": path if draw(st.integers(0, 9)) else value(), "distribution": kind}
+        if kind in _REQUIRED and draw(st.integers(0, 3)):
+            numbers = sorted(draw(st.lists(st.floats(0.0, 30.0), min_size=4, max_size=4)))
+            lo, a, b, hi = numbers
+            given_values = {"low": lo, "mode": a, "high": hi, "mean": a,
+                            "standard_deviation": max(b - a, 1e-3), "median": max(a, 1e-3),
+                            "sigma_log": draw(st.floats(0.01, 1.0))}
+            spec.update({k: given_values[k] for k in _REQUIRED[kind]})
+        for key in draw(st.sets(st.sampled_from(
+                ["low", "mode", "high", "mean", "standard_deviation", "median", "sigma_log",
+                 "shape"]), max_size=2 if draw(st.integers(0, 3)) == 0 else 0)):
+            spec[key] = value()
+        inputs.append(spec)
+    table = {"scenarios": draw(st.integers(2, 60)) if draw(st.integers(0, 4)) else value(),
+             "inputs": inputs}
+    if draw(st.booleans()):
+        table["seed"] = draw(st.integers(0, 99)) if draw(st.integers(0, 3)) else value()
+    if draw(st.booleans()):
+        table["sobol_samples"] = draw(st.integers(0, 64)) if draw(st.integers(0, 3)) else value()
+    if inputs and draw(st.booleans()):
+        names = [i["input"] for i in inputs if isinstance(i["input"], str)] or ["x"]
+        table["correlations"] = [{"inputs": draw(st.lists(st.sampled_from(names), max_size=3)),
+                                  "rank_correlation": value()}]
+    return table
+
+
+BASE = tomllib.loads(DEMO)
+
+
+@settings(max_examples=300, deadline=None)
+@given(_tables())
+def test_generated_uncertainty_tables_are_accepted_or_refused_in_one_line(table):
+    raw = {**BASE, "uncertainty": table}
+    try:
+        case = validate_case_dict(raw)
+    except CaseError as exc:
+        assert "\n" not in str(exc) and exc.path.startswith("uncertainty")
+        event(f"refused at {exc.path.split('.')[-1].split('[')[0]}")
+        return
+    event("accepted")
+    inputs = uncertain_inputs(case)
+    values = scenario_values([x.distribution for x in inputs], min(case.uncertainty.scenarios,
+                                                                   200), 0)
+    for j, x in enumerate(inputs):
+        lo, hi = x.distribution.support()
+        assert np.isfinite(values[:, j]).all()
+        assert (values[:, j] >= lo).all() and (values[:, j] <= hi).all()

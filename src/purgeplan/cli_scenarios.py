@@ -55,11 +55,13 @@ def jobs_and_client(args):
                         f"({exc})") from None
 
 
-def labels_of(alts) -> dict[str, str]:
-    """Short labels of the alternatives, by name, as the other commands print them."""
-    from .cli import _short_label
+def labels_of(case, alts) -> dict[str, str]:
+    """Code and label of each alternative by name, as the study gives them ("A5 ...")."""
+    from .study import alternative_labels
 
-    return {name: _short_label(name, choices) for name, choices, _ in alts}
+    codes = alternative_labels(case, [(name, choices) for name, choices, _ in alts])
+    return {name: f"{code} {label}".strip()
+            for (name, _, _), (code, label) in zip(alts, codes, strict=True)}
 
 
 def cmd_scenarios(args) -> int:
@@ -86,9 +88,12 @@ def cmd_scenarios(args) -> int:
         progress.close()
         if client is not None:
             client.close()
-    labels = labels_of(alts)
+    labels = labels_of(case, alts)
     print(f"scenarios: {case.case.name} (case sha256 {digest[:12]})", file=out)
-    cli._print(terminal_lines(result, case.economics.currency, labels), out)
+    table, notes = terminal_lines(result, case.economics.currency, labels)
+    cli._print(table, out)
+    for line in notes:
+        cli._wrapped(line, 0, out)
     if result.interrupted:
         print("interrupted: the finished scenarios are shown above; nothing was written",
               file=sys.stderr)

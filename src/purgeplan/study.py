@@ -30,6 +30,7 @@ from .loop import Loop
 from .reduced_space import LoopLP
 from .search import scan_and_refine
 from .solve import SIZED_SCAN_POINTS, Optimum, evaluate_at, optimise
+from .uncertainty import UncertaintyResult, run_uncertainty
 
 
 @dataclass
@@ -135,6 +136,8 @@ class StudyResult:
     sensitivity_fraction: float = 0.2
     #: The even grid of purge fractions every alternative's TAC is given on [-].
     grid: list[float] = field(default_factory=list)
+    #: The price scenarios of the case's [uncertainty] table; None without one.
+    uncertainty: UncertaintyResult | None = None
 
     def by_name(self, name: str | None) -> Alternative | None:
         return next((a for a in self.alternatives if a.name == name), None)
@@ -742,9 +745,16 @@ def run_study(case: Case, case_sha256: str, *, jobs: int = 1, client=None,
                       max(a.loop.purge_fraction_max for a in feasible)) if feasible else []
     for a in feasible:
         cost_on_grid(a, grid)
+    scenarios = None
+    if case.uncertainty is not None:
+        scenarios = run_uncertainty(case, [(a.name, a.loop) for a in ordered],
+                                    ordered[0].name if feasible else None, jobs=jobs,
+                                    client=client, progress=progress)
+        if scenarios.interrupted:  # nothing partial is written: stop as Ctrl-C does
+            raise KeyboardInterrupt
     return StudyResult(
         case_name=case.case.name, case_sha256=case_sha256, tool_version=__version__,
         currency=case.economics.currency,
         created=dt.datetime.now(dt.UTC).replace(microsecond=0).isoformat(),
         alternatives=ordered, break_even=be, sensitivity=sensitivity,
-        sensitivity_fraction=frac, grid=grid)
+        sensitivity_fraction=frac, grid=grid, uncertainty=scenarios)

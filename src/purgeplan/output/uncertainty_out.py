@@ -55,8 +55,8 @@ def _millions(x: float | None) -> str:
 
 
 def terminal_lines(result: UncertaintyResult, currency: str,
-                   labels: Mapping[str, str] | None = None) -> list[str]:
-    """The scenario results in plain words, most often best first."""
+                   labels: Mapping[str, str] | None = None) -> tuple[list[str], list[str]]:
+    """The scenario results: table lines (most often best first) and sentences to wrap."""
     labels = labels or {}
     n = result.finished
     lines = [f"price scenarios: {n} of {result.scenarios} (seed {result.seed}), every "
@@ -71,23 +71,24 @@ def terminal_lines(result: UncertaintyResult, currency: str,
                      f"{_millions(t['P50']):>9} {_millions(t['P90']):>9}  "
                      f"{_millions(a.expected_regret):>8}  "
                      f"{'-' if pf is None else f'{pf:.5f}':>9}  {labels.get(a.name, a.name)}")
+    notes = []
     rec = next((a for a in result.alternatives if a.name == result.recommended), None)
     if rec is not None:
-        lines.append(
+        notes.append(
             f"{labels.get(rec.name, rec.name)} is the best in {100 * rec.probability_best:.1f} %"
             f" of the scenarios; choosing it costs {rec.expected_regret:,.0f} {currency}/year "
             "more on average than the best choice in each scenario would")
     if result.drivers:
         strongest = ", ".join(f"{d.input} ({d.rank_correlation:+.2f})"
                               for d in result.drivers[:3])
-        lines.append("what drives the choice (rank correlation with the recommended "
+        notes.append("what drives the choice (rank correlation with the recommended "
                      f"alternative's TAC less the best other's): {strongest}")
     if result.sobol is not None:
         s = result.sobol
         order = np.argsort(s.total)[::-1]
-        lines.append("Sobol total indices of that gap (inputs taken as independent): "
+        notes.append("Sobol total indices of that gap (inputs taken as independent): "
                      + ", ".join(f"{s.names[i]} {s.total[i]:.2f}" for i in order))
-    return lines
+    return lines, notes
 
 
 def plot_uncertainty(path, result: UncertaintyResult, currency: str,
