@@ -358,6 +358,8 @@ def _listing(choices: list[_Choice]) -> list[str]:
 def _match(choices: list[_Choice], text: str) -> list[_Choice]:
     """The alternatives ``text`` names: by number, label, name or option=choice pairs."""
     wanted = text.strip()
+    if re.fullmatch(r"[Aa][0-9]+", wanted):     # the code a study gives, A1, A2, ...
+        wanted = wanted[1:]
     if wanted.isdigit():
         return [c for c in choices if c.number == int(wanted)]
     key = _norm(wanted)
@@ -473,7 +475,7 @@ def _columns(rows: list[_Row], currency: str, ranked: bool) -> tuple[list[_Colum
     cols = []
     if ranked:
         cols.append(_Column(("", "rank"), [str(r.rank) if r.rank else "-" for r in rows]))
-    cols.append(_Column(("", "no."), [str(r.choice.number) for r in rows]))
+    cols.append(_Column(("", "code"), [f"A{r.choice.number}" for r in rows]))
     cols.append(_Column(("", "alternative"), [r.choice.label for r in rows], left=True,
                         wrap=12))
     cols.append(_Column(("purge", "fraction"), cells(lambda s, r: _fraction(s.purge_fraction))))
@@ -547,7 +549,7 @@ def _table(rows: list[_Row], currency: str, *, ranked: bool) -> list[str]:
     for h in (0, 1):
         if any(c.head[h] for c in shown):
             out.append(SEP.join(_pad(c, c.head[h], widths[id(c)]) for c in shown).rstrip())
-    lead = [c for c in shown if c.head[1] in ("rank", "no.", "alternative")]
+    lead = [c for c in shown if c.head[1] in ("rank", "code", "alternative")]
     indent = sum(widths[id(c)] for c in lead) + len(SEP) * len(lead)
     for i, row in enumerate(rows):
         if row.opt.state is None:
@@ -599,7 +601,7 @@ def _violations(rows: list[_Row], width: int) -> list[str]:
     out = []
     for row in rows:
         if row.opt.state is not None and row.opt.status is not Status.OPTIMAL:
-            out += textwrap.wrap(f"{row.choice.number} {row.choice.label}: "
+            out += textwrap.wrap(f"A{row.choice.number} {row.choice.label}: "
                                  f"{row.opt.status.value.upper()}: {row.opt.message}",
                                  width, subsequent_indent="    ")
     return out
@@ -988,6 +990,21 @@ def cmd_optimize(args) -> int:
     return _status_of([a.optimum for a in done])
 
 
+def _decision_lines(result, out) -> None:
+    """The decision after the study's table: recommendation, break-even, levers that change it."""
+    from .study import break_even_words, levers_changing_best, recommendation
+
+    _wrapped(recommendation(result), 0, out)
+    for be in result.break_even:
+        _wrapped("break-even: " + break_even_words(be, result.currency), 0, out)
+    if result.sensitivity:
+        changes = levers_changing_best(result)
+        frac = 100 * result.sensitivity_fraction
+        _wrapped(f"levers that change the best alternative (each moved -/+{frac:g} % alone, "
+                 "every alternative re-optimised): " + ("; ".join(changes) if changes else
+                                                         "none"), 0, out)
+
+
 def cmd_study(args) -> int:
     import os
 
@@ -1013,13 +1030,7 @@ def cmd_study(args) -> int:
     print(f"study: {case.case.name} (case sha256 {digest[:12]})", file=out)
     _print(_table(_ranked_rows(result.alternatives, choices), result.currency, ranked=True),
            out)
-    for be in result.break_even:
-        if be.premium_per_kmol is not None:
-            _wrapped(f"break-even: {be.grade} ties with {be.base_grade} at a premium of "
-                     f"{be.premium_per_kmol:.4f} {result.currency}/kmol "
-                     f"({be.premium_percent:.2f} % of the base price)", 0, out)
-        else:
-            _wrapped(f"break-even: {be.grade} against {be.base_grade}: {be.note}", 0, out)
+    _decision_lines(result, out)
     from .output.workbook import write_workbook
 
     writer = _Writer()

@@ -53,9 +53,14 @@ def _hours_to_limit(hours: dict) -> dict:
 
 
 def alternative_record(name: str, loop: Loop, opt: Optimum, choices: dict | None = None,
-                       rank: int | None = None) -> dict:
-    """One alternative's result as plain JSON-ready data."""
-    rec = {"name": name, "choices": dict(choices or {}), "rank": rank,
+                       rank: int | None = None, code: str = "", label: str = "") -> dict:
+    """One alternative's result as plain JSON-ready data.
+
+    ``code`` ("A1", ...) and ``label`` (the alternative in words) come from
+    a study; elsewhere they are empty.
+    """
+    rec = {"name": name, "code": code, "label": label, "choices": dict(choices or {}),
+           "rank": rank,
            "feasible": opt.feasible, "status": opt.status.value, "message": opt.message,
            "solver": {"name": opt.solver.name, "status": opt.solver.status,
                       "solves": opt.solver.solves, "seconds": opt.solver.seconds,
@@ -115,12 +120,39 @@ def alternatives_document(case_sha256: str, alternatives: Iterable[Alternative],
     ``ranking``, best first (the ranks come from :func:`purgeplan.study.rank`).
     """
     alternatives = list(alternatives)
-    records = [alternative_record(a.name, a.loop, a.optimum, a.choices, a.rank)
+    records = [alternative_record(a.name, a.loop, a.optimum, a.choices, a.rank, a.code, a.label)
                for a in alternatives]
     if ranked:
         extra = {"ranking": [a.name for a in sorted(
             (a for a in alternatives if a.rank is not None), key=lambda a: a.rank)], **extra}
     return document(case_sha256, records, **extra)
+
+
+def decision_block(result: StudyResult) -> dict:
+    """The decision in words and each alternative's present operation and grid of TACs.
+
+    ``recommendation``, ``break_even_words`` and ``levers_changing_best`` are
+    the sentences the terminal prints; ``grid`` is the study's even grid of
+    purge fractions; ``present`` (by alternative name) the case's present
+    purge fraction, the TAC there (null without a steady state) and whether
+    it meets every limit; ``grid_tac`` (by name) the TAC on the grid, null
+    where infeasible.
+    """
+    from ..study import break_even_words, levers_changing_best, recommendation
+
+    present = {}
+    for a in result.alternatives:
+        p = a.present
+        present[a.name] = {"purge_fraction": a.loop.purge_fraction,
+                           "tac_per_year": p.state.tac_per_year if p and p.state else None,
+                           "feasible": bool(p is not None and p.feasible)}
+    return _clean({
+        "recommendation": recommendation(result),
+        "break_even_words": [break_even_words(b, result.currency) for b in result.break_even],
+        "levers_changing_best": levers_changing_best(result),
+        "grid": list(result.grid),
+        "present": present,
+        "grid_tac": {a.name: list(a.grid_tac) for a in result.alternatives}})
 
 
 def study_document(result: StudyResult) -> dict:
@@ -130,7 +162,7 @@ def study_document(result: StudyResult) -> dict:
         currency=result.currency, created=result.created,
         break_even=[dataclasses.asdict(b) for b in result.break_even],
         sensitivity=[dataclasses.asdict(r) for r in result.sensitivity],
-        sensitivity_fraction=result.sensitivity_fraction)
+        sensitivity_fraction=result.sensitivity_fraction, decision=decision_block(result))
 
 
 def write_json(path: str | Path, doc: dict) -> Path:
