@@ -246,28 +246,37 @@ def test_sensitivity_sheet_writes_every_record_field(study):
 
 
 def test_break_even_table_writes_every_record_field(study):
+    """One column per purer grade, a field per row; the quoted premium and verdict live."""
     ws = build_workbook(study)[workbook.SUMMARY]
     head = next(c.row for c in ws["A"] if c.value == "Purer grade")
-    rows = _table(ws, head, head + 1, head + len(study.break_even))
+    fields = {ws.cell(r, 1).value: r for r in range(head, head + 13)}
     assert study.break_even, "the reduced demo has two make-up grades"
-    for cells, rec in zip(rows, study.break_even, strict=True):
-        assert cells["Purer grade"] == rec.grade
-        assert cells["Base grade"] == rec.base_grade
-        for column, name in (("Alternative (purer grade)", rec.alternative),
-                             ("Base alternative", rec.base_alternative)):
+    for col, rec in enumerate(study.break_even, start=2):
+        def cell(label, col=col):
+            return ws.cell(fields[label], col).value
+
+        assert cell("Purer grade") == rec.grade
+        assert cell("Base grade") == rec.base_grade
+        for label, name in (("Alternative (purer grade)", rec.alternative),
+                            ("Base alternative", rec.base_alternative)):
             alt = study.by_name(name)
-            assert cells[column] == f"{alt.code} {alt.label}"
-        assert cells["Base price [EUR/kmol]"] == rec.base_price_per_kmol
-        assert cells["Grade price [EUR/kmol]"] == rec.grade_price_per_kmol
-        assert cells["Tie price [EUR/kmol]"] == _shown(rec.tie_price_per_kmol)
-        assert cells["Premium [EUR/kmol]"] == _shown(rec.premium_per_kmol)
-        assert cells["Premium [% of base price]"] == _shown(rec.premium_percent)
-        quoted = rec.grade_price_per_kmol - rec.base_price_per_kmol
-        assert cells["Quoted premium now [EUR/kmol]"] == f"=price_per_kmol_{rec.grade}" \
-            f"-price_per_kmol_{rec.base_grade}"
-        assert quoted == pytest.approx(0.12, rel=1e-9)   # the demo's 2.42 against 2.30
-        assert cells["TAC at tie [EUR/year]"] == _shown(rec.tac_at_tie_per_year)
-        assert cells["Note"] == (rec.note or "")
+            assert cell(label) == f"{alt.code} {alt.label}"
+        assert cell("Base price [EUR/kmol]") == rec.base_price_per_kmol
+        assert cell("Grade price [EUR/kmol]") == rec.grade_price_per_kmol
+        assert cell("Tie price [EUR/kmol]") == _shown(rec.tie_price_per_kmol)
+        assert cell("Premium [EUR/kmol]") == _shown(rec.premium_per_kmol)
+        assert cell("Premium [% of base price]") == _shown(rec.premium_percent)
+        assert cell("TAC at tie [EUR/year]") == _shown(rec.tac_at_tie_per_year)
+        assert cell("Quoted premium now [EUR/kmol]") == \
+            f"=price_per_kmol_{rec.grade}-price_per_kmol_{rec.base_grade}"
+        letter = chr(ord("A") + col - 1)
+        assert cell("Pays at the quoted premium") == (
+            f'=IF({letter}{fields["Quoted premium now [EUR/kmol]"]}<'
+            f'{letter}{fields["Premium [EUR/kmol]"]},"pays","does not pay")')
+        assert cell("Note") == (rec.note or "")
+        # the demo quotes purified at 2.42 against 2.30 EUR/kmol
+        assert rec.grade_price_per_kmol - rec.base_price_per_kmol == pytest.approx(0.12,
+                                                                                   rel=1e-9)
 
 
 def test_defined_names_are_valid_and_unique():

@@ -227,6 +227,10 @@ def _fit_row_heights(ws: Worksheet) -> None:
     for r, height in needed.items():
         if height > LINE_POINTS:
             ws.row_dimensions[r].height = math.ceil(height + 2)
+            for cell in ws[r]:         # labels and values line up with wrapped text
+                if cell.value is not None and cell.alignment.vertical is None:
+                    cell.alignment = Alignment(horizontal=cell.alignment.horizontal,
+                                               vertical="top")
 
 
 def _header_footer_text(text: str) -> str:
@@ -249,6 +253,8 @@ def _page_setup(ws: Worksheet, study: StudyResult) -> None:
     ws.oddHeader.right.text = _header_footer_text(f"{ws.title}, purgeplan study")
     ws.oddFooter.left.text = _header_footer_text(f"Created {study.created}") + ", printed &D"
     ws.oddFooter.right.text = "Page &P of &N"
+    if ws.title == SUMMARY:
+        ws.page_setup.fitToHeight = 1       # the decision on one page
 
 
 # ---------------------------------------------------------------------------
@@ -273,6 +279,7 @@ class _Refs:
     lines: dict[tuple[int, str], str] = field(default_factory=dict)  # (number, line key) -> cell
     used: set[str] = field(default_factory=set)               # assumption keys formulas use
     order: list[Alternative] = field(default_factory=list)    # by code number
+    by_rank: list[Alternative] = field(default_factory=list)  # ranked first, at the case prices
     inputs: tuple[int, int] = (3, 2)                          # first and last input row
 
     def __post_init__(self):
@@ -284,6 +291,7 @@ class _Refs:
         for alt, i in zip(alts, numbers, strict=True):
             self.number[id(alt)] = i
         self.order = sorted(alts, key=self.of)
+        self.by_rank = sorted(alts, key=lambda a: (a.rank is None, a.rank or 0, self.of(a)))
         ranked = len(self.study.ranked)
         #: Ranking sheet: the live ranked view from row 5, the alternatives below it.
         self.view_first = 5
@@ -651,11 +659,25 @@ def _cost_sheet(ws: Worksheet, study: StudyResult, refs: _Refs) -> None:
                     for label in COST_COLUMNS])
     ws.freeze_panes = "A3"
     ws.print_title_rows = "1:2"
-    row = 4
-    for alt in refs.order:
+    _text(ws, 3, 1, _printed_note(study, "blocks"), wrap=True).font = Font(italic=True)
+    ws.merge_cells("A3:H3")
+    row = 5
+    for k, alt in enumerate(refs.by_rank, start=1):
         row = _cost_block(ws, row, alt, refs, cur) + 1
+        if k == min(PRINTED_DETAIL, len(refs.by_rank)):
+            ws.print_area = f"A1:I{row - 1}"
     _widths(ws, {"A": 40, "B": 11, "C": 15, "D": 11, "E": 17, "F": 15, "G": 17, "H": 62,
                  "I": 26})
+
+
+#: Alternatives whose cost build-up and stream tables print (the best at the case prices).
+PRINTED_DETAIL = 3
+
+
+def _printed_note(study: StudyResult, what: str) -> str:
+    n = min(PRINTED_DETAIL, len(study.alternatives))
+    return (f"The {what} follow the ranking at the case prices; the print area holds the "
+            f"first {n} (clear it under Page Layout to print every alternative).")
 
 
 def _cost_block(ws: Worksheet, row: int, alt: Alternative, refs: _Refs, cur: str) -> int:
@@ -828,7 +850,7 @@ RANKING_COLUMNS = (
     ("K", "Present purge fraction [%]", 10),
     ("L", "TAC at the present purge fraction [{cur}/year]", 15),
     ("M", "Saving against the present purge fraction [{cur}/year]", 14),
-    ("N", "At limit", 24), ("O", "Status", 10), ("P", "Option key", 40))
+    ("N", "At limit", 40), ("O", "Status", 10), ("P", "Option key", 40))
 
 
 def _check_texts() -> tuple[str, str]:
@@ -1123,42 +1145,52 @@ def _break_even_table(ws: Worksheet, row: int, study: StudyResult, refs: _Refs) 
         _text(ws, row, 1, "No break-even: fewer than two single-source make-up grades among "
                           "the feasible alternatives.")
         return row + 1
-    _header(ws, row, ["Purer grade", "Base grade", "Alternative (purer grade)",
-                      "Base alternative", f"Base price [{cur}/kmol]",
-                      f"Grade price [{cur}/kmol]", f"Tie price [{cur}/kmol]",
-                      f"Premium [{cur}/kmol]", "Premium [% of base price]",
-                      f"TAC at tie [{cur}/year]", f"Quoted premium now [{cur}/kmol]",
-                      "Pays at the quoted premium", "Note"])
+    fields = ["Purer grade", "Base grade", "Alternative (purer grade)", "Base alternative",
+              f"Base price [{cur}/kmol]", f"Grade price [{cur}/kmol]",
+              f"Tie price [{cur}/kmol]", f"Premium [{cur}/kmol]", "Premium [% of base price]",
+              f"TAC at tie [{cur}/year]", f"Quoted premium now [{cur}/kmol]",
+              "Pays at the quoted premium", "Note"]
+    _header(ws, row, ["Break-even (one column per purer grade)"]
+            + [""] * len(study.break_even))
     row += 1
-    for entry in study.break_even:
-        alt, base = study.by_name(entry.alternative), study.by_name(entry.base_alternative)
-        _text(ws, row, 1, entry.grade)
-        _text(ws, row, 2, entry.base_grade)
-        _text(ws, row, 3, refs.title(alt) if alt else entry.alternative, wrap=True)
-        _text(ws, row, 4, refs.title(base) if base else entry.base_alternative, wrap=True)
-        _number(ws, row, 5, entry.base_price_per_kmol, "0.0000")
-        _number(ws, row, 6, entry.grade_price_per_kmol, "0.0000")
-        _number(ws, row, 7, entry.tie_price_per_kmol, "0.0000")
-        _number(ws, row, 8, entry.premium_per_kmol, "0.0000")
-        _number(ws, row, 9, entry.premium_percent, "0.00")
-        _number(ws, row, 10, entry.tac_at_tie_per_year, FMT_MONEY)
-        names = (refs.names.get((refs.of(alt), f"price_per_kmol:{entry.grade}")) if alt else None,
-                 refs.names.get((refs.of(base), f"price_per_kmol:{entry.base_grade}"))
-                 if base else None)
-        quoted = entry.grade_price_per_kmol - entry.base_price_per_kmol
-        if None not in names:
-            _formula(ws, row, 11, f"{names[0]}-{names[1]}", "0.0000", quoted)
-        else:
-            _number(ws, row, 11, quoted, "0.0000")
-        if entry.premium_per_kmol is not None:
-            pays = quoted < entry.premium_per_kmol
-            _formula(ws, row, 12, f'IF(K{row}<H{row},"pays","does not pay")', "General",
-                     "pays" if pays else "does not pay")
-        else:
-            _text(ws, row, 12, "n/a")
-        _text(ws, row, 13, entry.note or "", wrap=True)
-        row += 1
-    return row
+    for k, label in enumerate(fields):
+        _text(ws, row + k, 1, label, bold=k == 0)
+    for col, entry in enumerate(study.break_even, start=2):
+        _break_even_column(ws, row, col, entry, study, refs)
+    return row + len(fields)
+
+
+def _break_even_column(ws: Worksheet, row: int, col: int, entry, study: StudyResult,
+                       refs: _Refs) -> None:
+    """One break-even record down a column from ``row``, in the order of the field labels."""
+    alt, base = study.by_name(entry.alternative), study.by_name(entry.base_alternative)
+    letter = get_column_letter(col)
+    _text(ws, row, col, entry.grade, bold=True)
+    _text(ws, row + 1, col, entry.base_grade)
+    _text(ws, row + 2, col, refs.title(alt) if alt else entry.alternative, wrap=True)
+    _text(ws, row + 3, col, refs.title(base) if base else entry.base_alternative, wrap=True)
+    for k, (value, fmt) in enumerate(((entry.base_price_per_kmol, "0.0000"),
+                                      (entry.grade_price_per_kmol, "0.0000"),
+                                      (entry.tie_price_per_kmol, "0.0000"),
+                                      (entry.premium_per_kmol, "0.0000"),
+                                      (entry.premium_percent, "0.00"),
+                                      (entry.tac_at_tie_per_year, FMT_MONEY)), start=4):
+        _number(ws, row + k, col, value, fmt)
+    names = (refs.names.get((refs.of(alt), f"price_per_kmol:{entry.grade}")) if alt else None,
+             refs.names.get((refs.of(base), f"price_per_kmol:{entry.base_grade}"))
+             if base else None)
+    quoted = entry.grade_price_per_kmol - entry.base_price_per_kmol
+    if None not in names:
+        _formula(ws, row + 10, col, f"{names[0]}-{names[1]}", "0.0000", quoted)
+    else:
+        _number(ws, row + 10, col, quoted, "0.0000")
+    if entry.premium_per_kmol is not None:
+        _formula(ws, row + 11, col, f'IF({letter}{row + 10}<{letter}{row + 7},"pays",'
+                                    '"does not pay")', "General",
+                 "pays" if quoted < entry.premium_per_kmol else "does not pay")
+    else:
+        _text(ws, row + 11, col, "n/a")
+    _text(ws, row + 12, col, entry.note or "", wrap=True)
 
 
 # ---------------------------------------------------------------------------
@@ -1239,9 +1271,12 @@ def _streams_sheet(ws: Worksheet, study: StudyResult, refs: _Refs) -> None:
     _title(ws, 1, "Stream tables at the optimum purge fraction")
     ws.freeze_panes = "B2"
     ws.print_title_rows = "1:1"
+    _text(ws, 2, 1, _printed_note(study, "tables")).font = Font(italic=True)
     row = 3
     widest = 1
-    for alt in refs.order:
+    ends = []
+    for alt in refs.by_rank:
+        ends.append(row - 1)
         _text(ws, row, 1, refs.title(alt)).font = _TITLE
         row += 1
         if not _has_state(alt):
@@ -1272,6 +1307,8 @@ def _streams_sheet(ws: Worksheet, study: StudyResult, refs: _Refs) -> None:
                     _number(ws, row, j, v, fmt)
                 row += 1
         row += 1
+    ends.append(row - 1)
+    ws.print_area = f"A1:{get_column_letter(widest)}{ends[min(PRINTED_DETAIL, len(ends) - 1)]}"
     ws.column_dimensions["A"].width = 30
     for j in range(2, widest + 2):
         ws.column_dimensions[get_column_letter(j)].width = 12
@@ -1304,7 +1341,9 @@ def _nice_step(span: float, steps: int = 6) -> float:
 
 
 #: Rows the combined cost-curve chart takes; its table starts below them.
-CHART_ROWS = 30
+CHART_ROWS = 44
+#: Size of the combined cost-curve chart [cm].
+CHART_CM = (40.0, 22.0)
 
 
 def _curves_sheet(ws: Worksheet, study: StudyResult, refs: _Refs) -> None:
@@ -1321,8 +1360,9 @@ def _curves_sheet(ws: Worksheet, study: StudyResult, refs: _Refs) -> None:
         _text(ws, 3, 1, "No cost curve: no feasible alternative.")
         return
     head = CHART_ROWS + 3
-    _header(ws, head, ["Purge fraction [%]"] + [refs.title(a) + f" [million {cur}/year]"
-                                                for a in alts])
+    _text(ws, head - 1, 1, f"TAC [million {cur}/year] on the grid of purge fractions; blank "
+                           "where the alternative has no feasible state", bold=True)
+    _header(ws, head, ["Purge fraction [%]"] + [refs.title(a) for a in alts])
     first = head + 1
     for k, x in enumerate(study.grid):
         _number(ws, first + k, 1, x, FMT_PCT_2)
@@ -1362,7 +1402,7 @@ def _curve_chart(ws, table: tuple[int, int], marks: tuple[int, int], count: int,
     chart = ScatterChart()
     chart.title = "TAC against purge fraction (diamonds: optima; crosses: a limit stops the curve)"
     chart.style = 2
-    chart.height, chart.width = 15, 27
+    chart.width, chart.height = CHART_CM
     chart.x_axis.title = "Purge fraction of the separator vapour [%]"
     chart.y_axis.title = f"TAC [million {cur}/year]"
     step_x = _nice_step(max(grid), 7)
@@ -1378,7 +1418,7 @@ def _curve_chart(ws, table: tuple[int, int], marks: tuple[int, int], count: int,
     chart.x_axis.number_format = "0.0%"
     chart.x_axis.delete = False
     chart.y_axis.delete = False
-    chart.legend.position = "r"
+    chart.legend.position = "b"
     first, last = table
     xs = Reference(ws, min_col=1, min_row=first, max_row=last)
     for j in range(2, 2 + count):
@@ -1459,11 +1499,14 @@ def _sensitivity_sheet(ws: Worksheet, study: StudyResult, refs: _Refs) -> None:
         _text(ws, row, 2, alt.label or n if alt else n, wrap=True)
         _text(ws, row, 3, n)
         row += 1
-    row = _swings(ws, row + 1, study, refs) + 1
-    _off_optimum_table(ws, row, study, refs)
-    widths = {"A": 22, "B": 30, "C": 9, "D": 9, "E": 9, "F": 9}
-    for j in range(7, 7 + 3 * len(names) + 3):
-        widths[get_column_letter(j)] = 14
+    row = _off_optimum_table(ws, row + 1, study, refs) + 2
+    _swings(ws, row, study, refs)
+    widths = {"A": 22, "B": 30, "C": 13, "D": 13, "E": 13, "F": 13}
+    for j in range(7, 7 + 3 * len(names)):
+        widths[get_column_letter(j)] = 13
+    for j in range(7 + 3 * len(names), 7 + 3 * len(names) + 2):
+        widths[get_column_letter(j)] = 28
+    widths[get_column_letter(7 + 3 * len(names) + 2)] = 8
     widths[get_column_letter(7 + 3 * len(names) + 3)] = 40
     _widths(ws, widths)
 
@@ -1619,4 +1662,4 @@ def _notes_sheet(ws: Worksheet, study: StudyResult, refs: _Refs) -> None:
         "them on opening.")])
     row = _section(ws, row, "Units", UNITS)
     _section(ws, row, "Cautions", [(line,) for line in CAUTIONS])
-    _widths(ws, {"A": 22, "B": 40, "C": 10, "D": 12, "E": 9, "F": 11, "G": 60, "H": 50})
+    _widths(ws, {"A": 22, "B": 40, "C": 10, "D": 12, "E": 9, "F": 11, "G": 110, "H": 50})
