@@ -147,7 +147,7 @@ def test_no_recompression_without_a_return_pressure():
     assert q["recovery_recompression_power_kw"] == 0.0
 
 
-def test_a_direct_feed_just_below_loop_pressure_is_compressed():
+def test_a_direct_feed_needing_under_one_kj_per_kmol_is_charged_with_its_compressor():
     """Hydrogen supplied at 149.95 bar to a 150 bar loop needs little work, below 1 kJ/kmol:
     at least the isothermal work of an ideal gas at its 30 degC, R T ln(150 / 149.95)
     = 8.3145 x 303.15 x 3.334e-4 = 0.8403 kJ/kmol (by hand; R from CODATA, from memory),
