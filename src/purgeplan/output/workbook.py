@@ -253,6 +253,8 @@ def _page_setup(ws: Worksheet, study: StudyResult) -> None:
     ws.oddHeader.right.text = _header_footer_text(f"{ws.title}, purgeplan study")
     ws.oddFooter.left.text = _header_footer_text(f"Created {study.created}") + ", printed &D"
     ws.oddFooter.right.text = "Page &P of &N"
+    if not ws.print_title_rows:
+        ws.print_title_rows = "1:1"
     if ws.title == SUMMARY:
         ws.page_setup.fitToHeight = 1       # the decision on one page
 
