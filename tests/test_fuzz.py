@@ -785,6 +785,34 @@ def test_file_of_several_megabytes_is_refused(tmp_path, megabytes):
     assert status == 2 and "limit" in err
 
 
+#: Labels an alternative may be given: text of any length and character, and wrong types.
+_LABELS = (st.text(max_size=80) | st.sampled_from(WRONG_TYPES + SPECIAL_NUMBERS)
+           | st.just("x" * 60) | st.just("x" * 61) | st.just("=1+1") | st.just("a\nb"))
+
+
+@settings(max_examples=80, deadline=None, suppress_health_check=[HealthCheck.too_slow])
+@given(st.lists(_LABELS, min_size=1, max_size=3))
+def test_check_survives_generated_alternative_labels(labels):
+    """alternatives[].label: a valid label passes, any other gives one line naming the field."""
+    grades = ["standard", "purified", "blend"]
+    doc = copy.deepcopy(SEED_DOCS["ammonia"])
+    doc["alternatives"] = [{"name": f"grade {g}", "choices": {"makeup_grade": g},
+                            "label": label} for g, label in zip(grades, labels, strict=False)]
+    case = GeneratedCase("ammonia", toml_dumps(doc).encode("utf-8"),
+                         [f"labels {[_brief(x) for x in labels]}"])
+    with tempfile.TemporaryDirectory() as tmp:
+        status, _, err = check_case_file(case, Path(tmp))
+    texts = [x.strip().casefold() for x in labels if isinstance(x, str)]
+    valid = all(isinstance(x, str) and 0 < len(x) <= 60 and x.strip()
+                and not any(ord(c) < 32 for c in x) for x in labels) and \
+        len(set(texts)) == len(texts)
+    if valid:
+        assert status == 0, err
+    else:
+        assert status == 2 and "label" in err, err
+    event(f"label check exit {status}")
+
+
 # ---------------------------------------------------------------------------
 # edge cases of the reader, the schema and the solver; each test states the expected
 # behaviour (check_case_file asserts the contract: exit status, stderr lines, no traceback)

@@ -31,13 +31,17 @@ def plot_cost_curves(path: str | Path, study: StudyResult) -> Path:
             continue
         x = [p.purge_fraction for p in curve]
         y = [p.tac_per_year / 1e6 for p in curve]
-        (line,) = ax.plot(x, y, label=f"{alt.rank}. {alt.name}")
+        (line,) = ax.plot(x, y, label=f"{alt.rank}. {alt.title}")
         s = alt.optimum.state
         ax.plot([s.purge_fraction], [s.tac_per_year / 1e6], "o", color=line.get_color())
+        if alt.curve_edge is not None and alt.curve_edge[0] <= x[0] * (1 + 1e-9):
+            edge_x, edge_tac, _names = alt.curve_edge      # where a limit stops the curve
+            ax.plot([edge_x], [edge_tac / 1e6], "x", color=line.get_color(), ms=8, mew=2)
     ax.set_xscale("log")
     ax.set_xlabel("Purge fraction of separator vapour [-]")
     ax.set_ylabel(f"Total annualised cost [million {study.currency}/year]")
-    ax.set_title("Cost curves (dots: optimum of each alternative)")
+    ax.set_title("Cost curves (dots: optimum of each alternative; crosses: a limit stops "
+                 "the curve)", fontsize=10)
     ax.grid(True, which="both", alpha=0.3)
     if ax.lines:
         ax.legend(fontsize=7, loc="upper center", bbox_to_anchor=(0.5, -0.13), ncol=2,
@@ -66,7 +70,8 @@ def plot_sensitivity(path: str | Path, study: StudyResult) -> Path:
             ("low", row.low_factor, row.low_factor_applied),
             ("high", row.high_factor, row.high_factor_applied)) if applied != asked]
         rows.append((row.label + (f" ({', '.join(cut)} applied)" if cut else ""), low, high))
-    rows.sort(key=lambda r: max(abs(r[1]), abs(r[2])) if not math.isnan(r[1]) else 0)
+    rows.sort(key=lambda r: max(abs(v) for v in r[1:] if not math.isnan(v)) if not all(
+        math.isnan(v) for v in r[1:]) else 0)
     fig, ax = plt.subplots(figsize=(8, 5), dpi=120)
     y = range(len(rows))
     ax.barh(y, [r[1] for r in rows], color="#4477aa",
@@ -76,7 +81,7 @@ def plot_sensitivity(path: str | Path, study: StudyResult) -> Path:
     ax.set_yticks(list(y), [r[0] for r in rows], fontsize=8)
     ax.axvline(0, color="black", lw=0.8)
     ax.set_xlabel(f"Change in TAC of the best alternative [million {study.currency}/year]")
-    ax.set_title(f"Sensitivity: {best.name if best else ''}", fontsize=9)
+    ax.set_title(f"Sensitivity: {best.title if best else ''}", fontsize=9)
     ax.legend(fontsize=8)
     fig.tight_layout()
     out = write_atomically(Path(path),
