@@ -183,9 +183,10 @@ def build_workbook(study: StudyResult) -> Workbook:
 # ---------------------------------------------------------------------------
 # layout and paper
 
-#: Height of one line of 11-point text [points], and characters per unit of column width.
+#: Height of one line of 11-point text [points], and characters per unit of column width
+#: (a unit is the width of a digit; text averages a little narrower).
 LINE_POINTS = 15.0
-_CHARS_PER_WIDTH = 1.0
+_CHARS_PER_WIDTH = 1.1
 
 
 def _text_lines(text: str, width: float) -> int:
@@ -1048,7 +1049,7 @@ def _summary_sheet(ws: Worksheet, study: StudyResult, refs: _Refs) -> None:
     first, last = refs.inputs
     changed = (f"SUMPRODUCT(--({quote_sheetname(ASSUMPTIONS)}!$C${first}:$C${last}<>"
                f"{quote_sheetname(ASSUMPTIONS)}!$E${first}:$E${last}))")
-    _text(ws, 7, 1, "Inputs on the Assumptions sheet changed from the case")
+    _text(ws, 7, 1, "Inputs on the Assumptions sheet changed from the case", wrap=True)
     _formula(ws, 7, 2, changed, "0", 0)
     _text(ws, 7, 3, "inputs")
     row = 9
@@ -1062,7 +1063,7 @@ def _summary_sheet(ws: Worksheet, study: StudyResult, refs: _Refs) -> None:
         _text(ws, row, 1, line, wrap=True)
         ws.merge_cells(start_row=row, start_column=1, end_row=row, end_column=6)
         row += 1
-    _widths(ws, {"A": 44, "B": 36, "C": 16, "D": 40, "E": 16, "F": 16, "G": 14, "H": 14,
+    _widths(ws, {"A": 44, "B": 40, "C": 22, "D": 40, "E": 16, "F": 16, "G": 14, "H": 14,
                  "I": 12, "J": 16, "K": 30})
 
 
