@@ -405,7 +405,7 @@ def test_evaluate_off_limit_reports_state_costs_and_the_limit(tmp_path):
 # 8. one command line: help, spelling, options, statuses
 
 
-SUBCOMMANDS = ("demos", "new", "check", "evaluate", "optimize", "study")
+SUBCOMMANDS = ("demos", "new", "check", "evaluate", "optimize", "study", "scenarios")
 
 
 @pytest.fixture(scope="module")

@@ -46,7 +46,9 @@ from purgeplan.uncertainty import (
     with_inputs,
 )
 
-DEMO = (Path(__file__).resolve().parents[1] / "cases" / "ammonia_demo.toml").read_text()
+DEMO_TEXT = (Path(__file__).resolve().parents[1] / "cases" / "ammonia_demo.toml").read_text()
+#: The demo without its own [uncertainty] table; the tests give theirs.
+DEMO = DEMO_TEXT[:DEMO_TEXT.index("\n[uncertainty]") + 1]
 
 # invented distributions around the demo's invented prices
 UNCERTAINTY = """
@@ -454,3 +456,24 @@ def test_generated_uncertainty_tables_are_accepted_or_refused_in_one_line(table)
         lo, hi = x.distribution.support()
         assert np.isfinite(values[:, j]).all()
         assert (values[:, j] >= lo).all() and (values[:, j] <= hi).all()
+
+
+def test_optimize_on_two_workers_gives_the_in_process_answers(tmp_path):
+    case = Path(__file__).resolve().parents[1] / "cases" / "hydrogenation_demo.toml"
+    docs = []
+    for jobs in ("1", "2"):
+        out = tmp_path / f"o{jobs}.json"
+        assert main(["optimize", str(case), "--jobs", jobs, "--json", str(out),
+                     "--quiet"]) == 0
+        doc = json.loads(out.read_text())
+        for alt in doc["alternatives"]:
+            alt["solver"].pop("seconds", None)
+        docs.append(doc)
+    assert docs[0] == docs[1]
+
+
+def test_the_demo_carries_a_table_that_the_study_runs():
+    case = parse_case_text(DEMO_TEXT)
+    assert case.uncertainty is not None and case.uncertainty.scenarios >= 10
+    assert {x.path for x in uncertain_inputs(case)} >= {"sources.standard.price_per_kmol",
+                                                         "economics.power_price_per_kwh"}

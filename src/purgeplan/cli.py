@@ -166,6 +166,9 @@ def _parser() -> argparse.ArgumentParser:
     _add_alternative(o, "only this alternative")
     _add_json(o)
     _add_plots(o, "cost curves")
+    from .cli_scenarios import add_jobs
+
+    add_jobs(o)
     _add_run_options(o)
 
     s = sub.add_parser("study", help="optimum of each alternative, ranking, break-even premium, "
@@ -177,11 +180,12 @@ def _parser() -> argparse.ArgumentParser:
     s.add_argument("-o", "--output", default=DEFAULT_WORKBOOK, metavar="OUT.xlsx",
                    help=f"workbook to write [default: {DEFAULT_WORKBOOK}]")
     _add_json(s)
-    _add_plots(s, "cost curves and sensitivity")
-    s.add_argument("--jobs", type=int, default=1, metavar="N",
-                   help="worker processes; 1 runs in-process, 0 one per core [default: 1]")
-    _add_run_options(s)
+    _add_plots(s, "cost curves, sensitivity and price scenarios")
+    from .cli_scenarios import add_jobs
     from .cli_scenarios import add_parser as add_scenarios
+
+    add_jobs(s)
+    _add_run_options(s)
 
     add_scenarios(sub, _add_case, _add_json, _add_plots, _add_quiet)
     return p
@@ -951,8 +955,7 @@ def _ranked_rows(ranked, choices: list[_Choice]) -> list[_Row]:
 
 def cmd_optimize(args) -> int:
     from .build import build_loop
-    from .solve import optimise
-    from .study import Alternative, rank
+    from .study import Alternative, Task, rank, run_tasks
 
     target = _json_target(args)
     plots = _folder_target("--plots", args.plots)
@@ -962,14 +965,22 @@ def cmd_optimize(args) -> int:
     alts, choices = _alternatives(case)
     picked = [alts[_pick(choices, args.alternative).number - 1]] if args.alternative \
         else alts
+    from .cli_scenarios import jobs_and_client
+
+    jobs, client = jobs_and_client(args)
     progress = _Progress(args.quiet or len(picked) == 1)
     progress("optimizing alternatives", 0, len(picked))
-    done = []
-    for name, options, c in picked:
-        loop = build_loop(c, name)
-        done.append(Alternative(name, options, loop, optimise(loop, time_limit_s=time_limit)))
-        progress("optimizing alternatives", 1, len(picked))
-    progress.close()
+    loops = [(name, options, build_loop(c, name)) for name, options, c in picked]
+    tasks = [Task(("base", name), loop, time_limit) for name, _, loop in loops]
+    try:
+        optima = run_tasks(tasks, jobs, client,
+                           lambda n: progress("optimizing alternatives", n, len(picked)))
+    finally:
+        progress.close()
+        if client is not None:
+            client.close()
+    done = [Alternative(name, options, loop, optima[("base", name)])
+            for name, options, loop in loops]
     ranked = rank(done)
     currency = done[0].loop.prices.currency
     _print(_table(_ranked_rows(ranked, choices), currency, ranked=True), out)
@@ -1006,31 +1017,39 @@ def _decision_lines(result, out) -> None:
 
 
 def cmd_study(args) -> int:
-    import os
-
     from .study import run_study
 
     workbook = _file_target("-o", args.output, ".xlsx", "the workbook is an Excel file")
     target = _json_target(args)
     plots = _folder_target("--plots", args.plots)
     time_limit = _time_limit(args)
-    if args.jobs < 0:
-        raise CaseError("--jobs", f"{args.jobs} must be 0 (one per core) or more")
     out = _report_stream(target)
     path = args.case or str(data_file("cases", DEMO_CASE))
     case, digest = _load(path)
-    jobs = args.jobs if args.jobs > 0 else (os.cpu_count() or 1)
+    from .cli_scenarios import jobs_and_client
+
+    jobs, client = jobs_and_client(args)
     progress = _Progress(args.quiet)
     try:
-        result = run_study(case, digest, jobs=jobs, time_limit_s=time_limit,
+        result = run_study(case, digest, jobs=jobs, client=client, time_limit_s=time_limit,
                            progress=progress)
     finally:
         progress.close()
+        if client is not None:
+            client.close()
     choices = _choices(sorted((a.name, a.choices) for a in result.alternatives))
     print(f"study: {case.case.name} (case sha256 {digest[:12]})", file=out)
     _print(_table(_ranked_rows(result.alternatives, choices), result.currency, ranked=True),
            out)
     _decision_lines(result, out)
+    if result.uncertainty is not None:
+        from .output.uncertainty_out import terminal_lines
+
+        table, notes = terminal_lines(result.uncertainty, result.currency,
+                                      {a.name: a.title for a in result.alternatives})
+        _print(table, out)
+        for line in notes:
+            _wrapped(line, 0, out)
     from .output.workbook import write_workbook
 
     writer = _Writer()
@@ -1042,9 +1061,15 @@ def cmd_study(args) -> int:
     if plots is not None:
         from .output.plots import plot_cost_curves, plot_sensitivity
 
-        writer.plots(plots, [
-            ("cost_curves.png", lambda p: plot_cost_curves(p, result)),
-            ("sensitivity.png", lambda p: plot_sensitivity(p, result))])
+        pictures = [("cost_curves.png", lambda p: plot_cost_curves(p, result)),
+                    ("sensitivity.png", lambda p: plot_sensitivity(p, result))]
+        if result.uncertainty is not None:
+            from .output.uncertainty_out import plot_uncertainty
+
+            pictures.append(("price_scenarios.png", lambda p: plot_uncertainty(
+                p, result.uncertainty, result.currency,
+                {a.name: a.title for a in result.alternatives})))
+        writer.plots(plots, pictures)
     print("wrote " + ", ".join(writer.written), file=out)
     print(CAUTION, file=sys.stderr)
     return _status_of([a.optimum for a in result.alternatives])

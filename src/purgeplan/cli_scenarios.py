@@ -13,7 +13,7 @@ def add_parser(sub, add_case, add_json, add_plots, add_quiet) -> None:
     """The command's arguments on the main parser's subcommands."""
     u = sub.add_parser(
         "scenarios", help="probability that each alternative is best under uncertain prices",
-        description="Draw the price scenarios of the case's [uncertainty] table, optimise "
+        description="Draw the price scenarios of the case's [uncertainty] table, optimize "
                     "every alternative's purge fraction again in each, and report the "
                     "probability that each is the best, its TAC percentiles, its expected "
                     "regret and which uncertain input drives the choice.")

@@ -53,7 +53,7 @@ from .search import feasibility_edge
 from .solve import optimise
 
 ROUTE_STATES = "price-independent states"
-ROUTE_REOPTIMISED = "re-optimised"
+ROUTE_REOPTIMISED = "re-optimized"
 
 #: Log-spaced purge fractions at which the price-independent states are converged first.
 GRID_POINTS = 48

@@ -156,13 +156,18 @@ def decision_block(result: StudyResult) -> dict:
 
 
 def study_document(result: StudyResult) -> dict:
-    """The study: its alternatives, ranking, break-even premiums and sensitivity."""
-    return alternatives_document(
+    """The study: its alternatives, ranking, break-even premiums, sensitivity and scenarios."""
+    from .uncertainty_out import uncertainty_block
+
+    doc = alternatives_document(
         result.case_sha256, result.alternatives, case_name=result.case_name,
         currency=result.currency, created=result.created,
         break_even=[dataclasses.asdict(b) for b in result.break_even],
         sensitivity=[dataclasses.asdict(r) for r in result.sensitivity],
         sensitivity_fraction=result.sensitivity_fraction, decision=decision_block(result))
+    doc["uncertainty"] = (None if result.uncertainty is None
+                          else uncertainty_block(result.uncertainty))
+    return doc
 
 
 def write_json(path: str | Path, doc: dict) -> Path:

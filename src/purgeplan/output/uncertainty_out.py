@@ -60,7 +60,7 @@ def terminal_lines(result: UncertaintyResult, currency: str,
     labels = labels or {}
     n = result.finished
     lines = [f"price scenarios: {n} of {result.scenarios} (seed {result.seed}), every "
-             "alternative re-optimised in each" + (" - interrupted" if result.interrupted
+             "alternative re-optimized in each" + (" - interrupted" if result.interrupted
                                                    else "")]
     head = (f"{'best in':>8}  {'TAC P10':>9} {'P50':>9} {'P90':>9}  {'regret':>8}  "
             f"{'purge P50':>9}  alternative")
@@ -119,7 +119,7 @@ def plot_uncertainty(path, result: UncertaintyResult, currency: str,
         right.text(v + 1, y, f"{v:.0f} %", va="center", fontsize=8)
     right.set_xlim(0, 115)
     right.set_xlabel("scenarios where it is best [%]")
-    fig.suptitle(f"{result.finished} price scenarios, every alternative re-optimised in each")
+    fig.suptitle(f"{result.finished} price scenarios, every alternative re-optimized in each")
     fig.tight_layout()
     fig.savefig(path, dpi=120)
     plt.close(fig)
@@ -135,7 +135,7 @@ def add_uncertainty_sheet(wb, result: UncertaintyResult, currency: str,
     ws = wb.create_sheet(SHEET)
     ws["A1"] = f"Price scenarios: {result.finished} of {result.scenarios}, seed {result.seed}"
     ws["A1"].font = Font(bold=True, size=12)
-    ws["A2"] = ("Every alternative's purge fraction optimised again at each scenario's "
+    ws["A2"] = ("Every alternative's purge fraction optimized again at each scenario's "
                 "prices (computed values; they do not follow edits of the Assumptions sheet).")
     head = ["Alternative", "Route", "Best in [%]", f"TAC P10 [{currency}/year]",
             f"TAC P50 [{currency}/year]", f"TAC P90 [{currency}/year]",
