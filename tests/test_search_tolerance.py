@@ -9,10 +9,11 @@ Stopping rule of SciPy's bounded Brent method (``_minimize_scalar_bounded``,
 seen in the SciPy 1.17 source; docs/references.md section 11): it stops when
 |u - m| <= 2 t - (b - a) / 2, with u the best point, m the middle of the
 bracket [a, b] that holds the minimum, and t = sqrt(eps) |u| + xatol / 3.
-Every point of the bracket, the minimum among them, is then within 2 t of u.  The search runs in u = ln x with
-xatol = xtol_rel = 1e-6 over [1e-4, 0.5], where |u| <= ln(1e4) = 9.21, so
-2 t <= 2 (1.49e-8 x 9.21 + 1e-6 / 3) = 9.41e-7 (by hand): the minimiser is
-found within 1e-6 in ln x, the relative 1e-6 the README states.
+Every point of the bracket, the minimum among them, is then within 2 t of u.
+The search runs in u = ln x with xatol = xtol_rel = 1e-6 over [1e-4, 0.5],
+where |u| <= ln(1e4) = 9.21, so 2 t <= 2 (1.49e-8 x 9.21 + 1e-6 / 3) = 9.41e-7
+(by hand): the minimiser is found within 1e-6 in ln x, the relative 1e-6 the
+README states.
 """
 
 from __future__ import annotations
