@@ -310,3 +310,61 @@ def test_sized_reactor_volume_grows_with_conversion():
                     * _levenspiel(x, 0.4) / _levenspiel(0.25, 0.4))
         assert s.quantities["reactor_volume_m3"] == pytest.approx(expected, rel=1e-12)
         assert s.balance_error < BALANCE_TOL
+
+
+def _sized_at_equilibrium_data_loop():
+    """Ammonia at 200 bar, 450 degC with equilibrium data (Gillespie-Beattie): the sized
+    reactor is calibrated at X = 0.25 against the case's X_e = 0.4 there."""
+    text = case_toml(
+        makeup={"H2": 0.7425, "N2": 0.2475, "Ar": 0.01}, liquid_fraction={"NH3": 1.0},
+        reaction='per_pass = "sized"\nequilibrium = { constant = "ammonia_gillespie_beattie" }'
+                 '\n\n[reactions.sizing]\n' + SIZING.format(feed=5000.0).replace(", ", "\n"),
+        basis="production", production_t_d=1000.0, purge_fraction=0.03)
+    return loop_from_text(text)
+
+
+def test_sized_reactor_volume_uses_the_equilibrium_at_its_inlet():
+    """Levenspiel's relation at the computed X_e of the state, not the case's 0.4."""
+    loop = _sized_at_equilibrium_data_loop()
+    for x in (0.1, 0.2, 0.25):
+        s = purgeplan.steady_state(loop, conversion={0: x})
+        x_e = s.equilibrium_conversion[0]
+        assert x < x_e and abs(x_e - 0.4) > 0.01  # the state's own equilibrium differs
+        expected = (60.0 * s.quantities["reactor_feed_kmol_h"] / 5000.0
+                    * _levenspiel(x, x_e) / _levenspiel(0.25, 0.4))
+        assert s.quantities["reactor_volume_m3"] == pytest.approx(expected, rel=1e-12)
+
+
+def test_sized_reactor_volume_grows_without_bound_toward_equilibrium():
+    from scipy.optimize import brentq
+
+    loop = _sized_at_equilibrium_data_loop()
+
+    def gap(x):  # conversion less the equilibrium conversion at the inlet it gives
+        try:
+            return x - purgeplan.steady_state(loop, conversion={0: x}).equilibrium_conversion[0]
+        except NoSteadyStateError:  # refused above equilibrium
+            return 1.0
+    x_star = brentq(gap, 0.05, 0.6, xtol=1e-13)
+    volumes = [purgeplan.steady_state(loop, conversion={0: x_star * (1 - d)})
+               .quantities["reactor_volume_m3"] for d in (1e-2, 1e-4, 1e-6, 1e-8)]
+    assert all(b > a for a, b in zip(volumes, volumes[1:], strict=False))
+    # k tau = X_e ln(X_e / (X_e - X)) grows by X_e ln(100) per factor 100 closer
+    assert volumes[-1] > 2.5 * volumes[0]
+
+
+def test_sized_reactor_optimum_stops_short_of_equilibrium():
+    """The catalyst's cost rises without bound near equilibrium, so the optimum stays below it;
+    a dense scan of the conversion at the optimum purge fraction finds nothing cheaper."""
+    from purgeplan.reduced_space import LoopLP
+    from purgeplan.solve import optimise
+
+    loop = _sized_at_equilibrium_data_loop()
+    opt = optimise(loop, details=False)
+    x, x_e = opt.state.conversion[0], opt.state.equilibrium_conversion[0]
+    assert 0.05 <= x < 0.995 * x_e
+    assert math.isfinite(opt.state.quantities["reactor_volume_m3"])
+    solver = LoopLP(loop)
+    a = opt.state.purge_fraction
+    scan = [solver.tac(a, 0.05 + 0.33 * k / 199) for k in range(200)]
+    assert min(scan) >= opt.state.tac_per_year * (1 - 1e-9)

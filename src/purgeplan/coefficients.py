@@ -37,19 +37,29 @@ def recycle_work_kj_kmol(loop: Loop, recycle_composition: Mapping[str, float]) -
     return compression.isentropic_work_kj_kmol(loop.recycle_inlet_temperature_k, ratio, gamma, 1)
 
 
-def catalyst_volume_per_feed_m3_h_kmol(loop: Loop, conversion: Mapping[int, float]) -> float:
+def catalyst_volume_per_feed_m3_h_kmol(loop: Loop, conversion: Mapping[int, float],
+                                       equilibrium: Mapping[int, float] | None = None
+                                       ) -> float:
     """Catalyst volume per kmol/h of reactor feed [m3 h/kmol].
 
     A sized reaction uses the reversible first-order plug-flow relation
-    calibrated at its reference point; otherwise the set space velocity.
+    calibrated at its reference point (where the case gives the equilibrium
+    conversion); at the state, the equilibrium conversion computed at the
+    reactor inlet where the reaction has equilibrium data (``equilibrium``),
+    else the case's.  The volume grows without bound as the conversion nears
+    equilibrium and is infinite at or beyond it.  Otherwise the set space
+    velocity.
     """
     i = loop.sized_reaction
     if i is None:
         return reactor.catalyst_volume_from_space_velocity_m3(1.0, loop.space_velocity_per_h)
     s = loop.reactions[i].sizing
     g = reactor.first_order_reversible_pfr_ktau
+    x_e = (equilibrium or {}).get(i, s["equilibrium_conversion"])
+    if not conversion[i] < x_e:
+        return math.inf
     return (s["reference_volume_m3"] / s["reference_feed_kmol_h"]
-            * g(conversion[i], s["equilibrium_conversion"])
+            * g(conversion[i], x_e)
             / g(s["reference_conversion"], s["equilibrium_conversion"]))
 
 

@@ -88,6 +88,9 @@ class LoopLP:
         self.unlimited: dict[tuple, LoopState] = {}
         self.converged: list[tuple[float, dict]] = []
         self.conversion = initial_conversions(loop)
+        #: Equilibrium conversions of the state converged last (a sized reactor's LP
+        #: capital uses them) [-].
+        self.equilibrium: dict[int, float] = {}
         self.work: float | None = None
         self.slopes: dict[int, float] = {}
         self.sizes: dict[str, float] = {}
@@ -138,7 +141,12 @@ class LoopLP:
             for i, xi in conversion.items():
                 m.conversion[i] = xi
             m.recycle_work_kj_kmol = work
-            volume = coefficients.catalyst_volume_per_feed_m3_h_kmol(self.loop, conversion)
+            # the LP's reactor capital at the equilibrium of the state converged last; the
+            # state itself is costed at its own (see _state)
+            volume = coefficients.catalyst_volume_per_feed_m3_h_kmol(
+                self.loop, conversion, self.equilibrium)
+            if not math.isfinite(volume):  # past the last state's equilibrium: the case's
+                volume = coefficients.catalyst_volume_per_feed_m3_h_kmol(self.loop, conversion)
             if not (math.isfinite(work) and math.isfinite(volume)):
                 raise SolverFailure("a coefficient of the LP is not finite (recycle work "
                                     f"{work:g} kJ/kmol, catalyst volume per feed "
@@ -185,7 +193,8 @@ class LoopLP:
         return make_state(
             loop, purge_fraction, done.conversion, done.flows, done.extents, done.sources,
             done.recycle_work_kj_kmol,
-            coefficients.catalyst_volume_per_feed_m3_h_kmol(loop, done.conversion),
+            coefficients.catalyst_volume_per_feed_m3_h_kmol(loop, done.conversion,
+                                                            done.equilibrium_conversion),
             done.equilibrium_conversion, self.pricing, balances=False, route=self.route)
 
     def _converge(self, purge_fraction: float, x: dict) -> LoopState | None:
@@ -231,6 +240,15 @@ class LoopLP:
             self.model.capital_slope[line.key] = table[f"{line.capital}_exponent"] * value / size
             self.sizes[line.key] = size
         return moved
+
+    def _refresh_equilibrium(self, state: LoopState) -> bool:
+        """Step 3 also moves a sized reactor's equilibrium conversion to the state's."""
+        i = self.loop.sized_reaction
+        if i is None or i not in state.equilibrium_conversion:
+            return False
+        new, old = state.equilibrium_conversion[i], self.equilibrium.get(i)
+        self.equilibrium = dict(state.equilibrium_conversion)
+        return old is None or abs(new - old) > TANGENT_TOLERANCE * new
 
     def _refresh_fuel_sink(self, state: LoopState) -> bool:
         """Step 3 also moves the purge gas's kmol per GJ of a fuel sink with a capacity."""
@@ -290,7 +308,8 @@ class LoopLP:
                 return state
             if self.square:
                 return self._keep_checked(key, state)
-            if self._refresh_capital_tangents(state) | self._refresh_fuel_sink(state):
+            if (self._refresh_capital_tangents(state) | self._refresh_fuel_sink(state)
+                    | self._refresh_equilibrium(state)):
                 x = dict(state.conversion)
                 continue
             if relaxed:
