@@ -20,6 +20,7 @@ import sys
 import openpyxl
 import pandas as pd
 import pytest
+from openpyxl.utils import get_column_letter
 from test_workbook import (
     CASE_NAME,
     DEMO,
@@ -194,8 +195,9 @@ def _assert_live_decision(study, got, want):
     by_code = {a.code: a for a in study.alternatives}
     view = got[workbook.RANKING]
     for k, code in enumerate(order, start=1):
-        assert view.cell(4 + k, 2).value == code
-        assert view.cell(4 + k, 4).value == pytest.approx(want[code], rel=REL)
+        assert view.cell(4 + k, 3).value == code
+        assert view.cell(4 + k, 2).value == by_code[code].label
+        assert view.cell(4 + k, 5).value == pytest.approx(want[code], rel=REL)
     summary = {row[0]: row[1] for row in got[workbook.SUMMARY].iter_rows(values_only=True)}
     best, second = by_code[order[0]], by_code[order[1]]
     assert summary["Best alternative"] == f"{best.code} {best.label}"
@@ -371,6 +373,56 @@ def test_levers_that_change_the_best_are_listed(study):
 # paper
 
 
+def _width(ws, col: int) -> float:
+    dim = ws.column_dimensions.get(get_column_letter(col))
+    return dim.width if dim is not None and dim.width else 8.43
+
+
+def _cut_cells(wb) -> list[tuple]:
+    """Text cells a spreadsheet would show cut, by the rules spreadsheets lay text out by.
+
+    Text that does not wrap spills into the empty cells to its right and is
+    cut at the first occupied one: it must fit the width up to there (a
+    character of 11-point text takes about one unit of column width; 10 %
+    allowed for narrower letters).  Wrapped text is cut when its row is too
+    low: the row must hold the lines the text wraps to, at 15 points a line
+    (:func:`purgeplan.output.workbook._text_lines`).  Merged cells count
+    their whole width; a formula is judged by its stored result.
+    """
+    results = workbook._results(wb)
+    cut = []
+    for ws in wb:
+        merged = {(r.min_row, r.min_col): r for r in ws.merged_cells.ranges}
+        for row in ws.iter_rows():
+            for cell in row:
+                value = results.get((ws.title, cell.coordinate)) if cell.data_type == "f" \
+                    else cell.value
+                if not isinstance(value, str) or not value:
+                    continue
+                span = merged.get((cell.row, cell.column))
+                last = span.max_col if span else cell.column
+                room = sum(_width(ws, c) for c in range(cell.column, last + 1))
+                scale = (cell.font.sz or 11) / 11
+                if cell.alignment.wrap_text:
+                    lines = workbook._text_lines(value, room / scale)
+                    height = ws.row_dimensions[cell.row].height or workbook.LINE_POINTS
+                    if height < lines * workbook.LINE_POINTS * scale - 0.5:
+                        cut.append((ws.title, cell.coordinate, "row too low", value[:40]))
+                    continue
+                col = last + 1
+                while len(value) * scale > room and ws.cell(cell.row, col).value is None \
+                        and col < 300:
+                    room += _width(ws, col)
+                    col += 1
+                if len(value) * scale > 1.1 * room:
+                    cut.append((ws.title, cell.coordinate, "too wide", value[:40]))
+    return cut
+
+
+def test_no_text_cell_is_cut(study):
+    assert _cut_cells(build_workbook(study)) == []
+
+
 def _pages(pdf: bytes) -> int:
     return len(re.findall(rb"/Type\s*/Page[^s]", pdf))
 
@@ -398,7 +450,8 @@ def test_every_sheet_prints_landscape_one_page_wide_with_case_date_and_page(demo
 
 @needs_soffice
 def test_the_demo_workbook_prints_in_at_most_20_pages(demo_workbook, tmp_path):
-    _result, path = demo_workbook
+    result, path = demo_workbook
+    assert _cut_cells(build_workbook(result)) == []
     profile = tmp_path / "lo-profile"
     done = subprocess.run([SOFFICE, f"-env:UserInstallation={profile.as_uri()}", "--headless",
                            "--norestore", "--convert-to", "pdf", "--outdir", str(tmp_path),

@@ -597,7 +597,7 @@ def _assumptions_sheet(wb: Workbook, ws: Worksheet, study: StudyResult, refs: _R
             _text(ws, row, 4, a.unit)
             _text(ws, row, 6, a.source)
             row += 1
-    _widths(ws, {"A": 34, "B": 44, "C": 14, "D": 13, "E": 14, "F": 12, "G": 18, "H": 32})
+    _widths(ws, {"A": 34, "B": 44, "C": 14, "D": 13, "E": 14, "F": 22, "G": 18, "H": 32})
 
 
 # ---------------------------------------------------------------------------
@@ -843,7 +843,7 @@ def _inert_limit_rows(ws: Worksheet, row: int, alt: Alternative) -> int:
 #: Columns of the Ranking sheet's table of alternatives.
 RANK_NOW, RANK_COMPUTED, TAC_COLUMN = "C", "D", "E"
 RANKING_COLUMNS = (
-    ("A", "Code", 7), ("B", "Alternative", 34),
+    ("A", "Code", 7), ("B", "Alternative", 42),
     (RANK_NOW, "Rank at the prices in this workbook", 11),
     (RANK_COMPUTED, "Rank computed at the case prices", 11),
     (TAC_COLUMN, "TAC [{cur}/year]", 15), ("F", "Cost per tonne [{cur}/t]", 11),
@@ -899,22 +899,22 @@ def _ranking_sheet(ws: Worksheet, study: StudyResult, refs: _Refs) -> None:
     _check_cell(ws, 2, refs, 10)
     ranked = len(study.ranked)
     head = refs.view_first - 1
-    _header(ws, head, ["Rank", "Code", "Alternative", f"TAC [{cur}/year]",
-                       f"Cost per tonne [{cur}/t]", f"More than the best [{cur}/year]",
-                       "Rank computed at the case prices"])
+    _header(ws, head, ["Rank", "Alternative", "Code", "Rank computed at the case prices",
+                       f"TAC [{cur}/year]", f"Cost per tonne [{cur}/t]",
+                       f"More than the best [{cur}/year]"])
     by_rank = {a.rank: a for a in study.ranked}
     for k in range(1, ranked + 1):
         r = refs.view_first + k - 1
         alt = by_rank[k]
         s = alt.optimum.state
         _number(ws, r, 1, k, "0")
-        _formula(ws, r, 2, refs.pick("A", k), "General", f"A{refs.of(alt)}")
-        _formula(ws, r, 3, refs.pick("B", k), "General", alt.label or alt.name)
-        _formula(ws, r, 4, refs.pick(TAC_COLUMN, k), FMT_MONEY, s.tac_per_year)
-        _formula(ws, r, 5, refs.pick("F", k), FMT_MONEY_2, s.cost_per_tonne_product)
-        _formula(ws, r, 6, f"D{r}-$D${refs.view_first}", FMT_MONEY,
+        _formula(ws, r, 2, refs.pick("B", k), "General", alt.label or alt.name).alignment = _WRAP
+        _formula(ws, r, 3, refs.pick("A", k), "General", f"A{refs.of(alt)}")
+        _formula(ws, r, 4, refs.pick(RANK_COMPUTED, k), "0", alt.rank)
+        _formula(ws, r, 5, refs.pick(TAC_COLUMN, k), FMT_MONEY, s.tac_per_year)
+        _formula(ws, r, 6, refs.pick("F", k), FMT_MONEY_2, s.cost_per_tonne_product)
+        _formula(ws, r, 7, f"E{r}-$E${refs.view_first}", FMT_MONEY,
                  s.tac_per_year - study.best.optimum.state.tac_per_year)
-        _formula(ws, r, 7, refs.pick(RANK_COMPUTED, k), "0", k)
     if not ranked:
         _text(ws, refs.view_first, 1, "No alternative meets the specification; the reasons "
                                       "are below.")
