@@ -477,3 +477,43 @@ def test_the_demo_carries_a_table_that_the_study_runs():
     assert case.uncertainty is not None and case.uncertainty.scenarios >= 10
     assert {x.path for x in uncertain_inputs(case)} >= {"sources.standard.price_per_kmol",
                                                          "economics.power_price_per_kwh"}
+
+
+def test_the_study_carries_the_scenarios_into_its_workbook_and_json(tmp_path):
+    from openpyxl import load_workbook
+
+    from purgeplan.output.uncertainty_out import SHEET
+
+    book, doc = tmp_path / "s.xlsx", tmp_path / "s.json"
+    assert main(["study", str(_small_case(tmp_path)), "-o", str(book), "--json", str(doc),
+                 "--quiet"]) == 0
+    block = json.loads(doc.read_text())["uncertainty"]
+    assert block["scenarios"] == 40 and set(block["alternatives"]) == {"standard to fuel",
+                                                                       "purified to fuel"}
+    ws = load_workbook(book)[SHEET]
+    rows = {ws.cell(row=r, column=1).value: [ws.cell(row=r, column=c).value
+                                             for c in range(1, 13)]
+            for r in range(5, 7)}
+    for name, rec in block["alternatives"].items():
+        label = next(k for k in rows if k and k.endswith(name))
+        assert rows[label][2] == pytest.approx(rec["probability_best"])
+        assert rows[label][4] == pytest.approx(rec["tac_percentiles"]["P50"])
+        assert rows[label][6] == pytest.approx(rec["expected_regret"])
+    assert len(ws._charts) == 2
+
+
+def test_sobol_indices_of_the_choice_on_the_demo(demo):
+    """Through the study's route: the purified price moves the standard-versus-purified choice."""
+    case, loops = demo
+    chosen = [(n, lp) for n, lp in _square(loops) if "recovery=none" in n
+              and "purge_destination=fuel" in n]
+    with_sobol = case.model_copy(update={"uncertainty": case.uncertainty.model_copy(
+        update={"sobol_samples": 64})})
+    result = run_uncertainty(with_sobol, chosen)
+    s = result.sobol
+    assert s.names == result.inputs and s.evaluations == 64 * (len(result.inputs) + 2)
+    assert all(math.isfinite(v) for v in s.first + s.total)
+    by_name = dict(zip(s.names, s.total, strict=True))
+    # the two make-up prices carry the choice between the two grades; power hardly
+    assert max(by_name, key=by_name.get).startswith("sources.")
+    assert by_name["economics.power_price_per_kwh"] < 0.2

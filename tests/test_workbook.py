@@ -151,9 +151,17 @@ def alternatives_table(ws) -> dict[str, dict]:
 # structure (no spreadsheet program needed)
 
 
+def _sheets(study) -> list[str]:
+    """The workbook's sheets: the fixed ones, and the price scenarios where the case has them
+    (the demo carries an [uncertainty] table)."""
+    from purgeplan.output.uncertainty_out import SHEET
+
+    return list(workbook.SHEETS) + ([SHEET] if study.uncertainty is not None else [])
+
+
 def test_sheets_names_and_layout(study):
     wb = build_workbook(study)
-    assert wb.sheetnames == list(workbook.SHEETS)
+    assert wb.sheetnames == _sheets(study)
     for ws in wb:
         # Excel's limits on sheet names: 31 characters, none of []:*?/\
         assert len(ws.title) <= 31 and not set(ws.title) & set("[]:*?/\\")
@@ -442,4 +450,4 @@ def test_successful_write_replaces_and_leaves_no_temporary(study, tmp_path):
     assert write_workbook(str(target), study) == target
     assert target.read_bytes()[:2] == b"PK"
     assert os.listdir(tmp_path) == ["study.xlsx"]
-    assert openpyxl.load_workbook(target).sheetnames == list(workbook.SHEETS)
+    assert openpyxl.load_workbook(target).sheetnames == _sheets(study)

@@ -175,7 +175,8 @@ def _parser() -> argparse.ArgumentParser:
                                      "sensitivity and workbook",
                        description="Everything: the optimum of each alternative, the ranking, "
                                    "the break-even premium of purer make-up gas, the "
-                                   "sensitivity to prices, and the workbook.")
+                                   "sensitivity to prices, the price scenarios of an "
+                                   "[uncertainty] table, the recommendation, and the workbook.")
     _add_case(s, optional=True)
     s.add_argument("-o", "--output", default=DEFAULT_WORKBOOK, metavar="OUT.xlsx",
                    help=f"workbook to write [default: {DEFAULT_WORKBOOK}]")

@@ -147,6 +147,7 @@ def add_uncertainty_sheet(wb, result: UncertaintyResult, currency: str,
         c.font = Font(bold=True)
         c.alignment = Alignment(wrap_text=True, vertical="top")
     ws.row_dimensions[4].height = 45
+    ws.freeze_panes = "B5"
     rows = sorted(result.alternatives, key=lambda a: a.mean_tac)
     for i, a in enumerate(rows, start=5):
         t, pf, inert = a.tac_percentiles, a.purge_fraction_percentiles, \

@@ -174,6 +174,11 @@ def build_workbook(study: StudyResult) -> Workbook:
     _curves_sheet(wb[CURVES], study, refs)
     _sensitivity_sheet(wb[SENSITIVITY], study, refs)
     _notes_sheet(wb[NOTES], study, refs)
+    if study.uncertainty is not None:
+        from .uncertainty_out import add_uncertainty_sheet
+
+        add_uncertainty_sheet(wb, study.uncertainty, study.currency,
+                              {a.name: a.title for a in study.alternatives})
     for ws in wb.worksheets:
         _fit_row_heights(ws)
         _page_setup(ws, study)
