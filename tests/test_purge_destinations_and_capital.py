@@ -328,7 +328,8 @@ def test_workbook_formulas_name_the_new_assumptions_and_show_the_warnings():
     wb = workbook.build_workbook(study)
     assert {"co2_price_per_t", "reactor_pressure_factor"} <= set(wb.defined_names)
     ws = wb[workbook.COSTS]
-    rows = {r[6].value: r for r in ws.iter_rows(min_row=3, max_col=7) if r[6].value}
+    # column I holds each line's key, column E its annual cost at the optimum
+    rows = {r[8].value: r for r in ws.iter_rows(min_row=3, max_col=9) if r[8].value}
     assert rows["reactor_capital"][4].value.endswith("*reactor_pressure_factor")
     assert "catalyst_life_years" in rows["catalyst_replacement"][4].value
     assert rows["co2_emissions"][4].value.startswith("=C")

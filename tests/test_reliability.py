@@ -61,15 +61,15 @@ def _snapshot(folder):
 KILLER = textwrap.dedent("""
     import sys, time
     from pathlib import Path
-    import openpyxl
+    import purgeplan.output.workbook as workbook
     ready = Path(sys.argv[1])
 
-    def slow_save(self, filename):
-        Path(filename).write_bytes(b"half a workbook")
+    def slow_save(wb, target):  # half the bytes in the file the writer was given, then stall
+        Path(target).write_bytes(b"half a workbook")
         ready.write_text("writing")
         time.sleep(120)
 
-    openpyxl.Workbook.save = slow_save
+    workbook.save_with_results = slow_save
     from purgeplan.cli import main
     sys.exit(main(sys.argv[2:]))
 """)

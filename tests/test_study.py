@@ -92,6 +92,8 @@ def _stable(doc):
     doc.pop("created", None)
     for alt in doc["alternatives"]:
         alt["solver"].pop("seconds", None)
+    if doc.get("uncertainty"):
+        doc["uncertainty"].pop("seconds")
     return doc
 
 

@@ -747,7 +747,7 @@ def run_study(case: Case, case_sha256: str, *, jobs: int = 1, client=None,
         cost_on_grid(a, grid)
     scenarios = None
     if case.uncertainty is not None:
-        scenarios = run_uncertainty(case, [(a.name, a.loop) for a in ordered],
+        scenarios = run_uncertainty(case, [(a.name, a.loop) for a in feasible],
                                     ordered[0].name if feasible else None, jobs=jobs,
                                     client=client, progress=progress)
         if scenarios.interrupted:  # nothing partial is written: stop as Ctrl-C does

@@ -45,6 +45,7 @@ import numpy as np
 
 from . import costs
 from .case import Case, correlation_matrix
+from .errors import SolverFailure
 from .executor import map_tasks
 from .loop import Loop
 from .reduced_space import LoopLP
@@ -163,7 +164,11 @@ def route_for(loop: Loop) -> str:
 def run_scenarios(task: ScenarioTask) -> tuple[tuple, ScenarioOptima]:
     """The optimum of one alternative in each scenario of a block (pure; safe in a worker)."""
     if task.route == ROUTE_STATES:
-        return task.key, _on_states(task.loop, task.paths, task.values)
+        try:
+            return task.key, _on_states(task.loop, task.paths, task.values)
+        except SolverFailure:  # the alternative is reported without scenarios, as infeasible
+            nan = np.full(len(task.values), np.nan)
+            return task.key, ScenarioOptima(nan, nan.copy(), nan.copy())
     n = len(task.values)
     out = [np.full(n, np.nan) for _ in range(3)]
     solver = LoopLP(task.loop)
