@@ -530,3 +530,20 @@ def test_study_ends_with_the_caution_and_writes_the_records(tmp_path, capsys):
     assert ("break-even: purified ties with standard at a premium of "
             f"{be['premium_per_kmol']:.4f}") in captured.out
     assert out.exists()
+
+
+def test_optimize_json_carries_the_codes_and_labels_the_study_gives(tmp_path):
+    """`optimize` names alternatives as `study` does, also for one picked by its code."""
+    case = Path(purgeplan.__file__).resolve().parents[2] / "cases" / "hydrogenation_demo.toml"
+    study, out = tmp_path / "s.json", tmp_path / "o.json"
+    assert main(["study", str(case), "-o", str(tmp_path / "s.xlsx"), "--json", str(study),
+                 "--quiet"]) == 0
+    named = {a["name"]: (a["code"], a["label"])
+             for a in json.loads(study.read_text())["alternatives"]}
+    assert main(["optimize", str(case), "--json", str(out), "--quiet"]) == 0
+    assert {a["name"]: (a["code"], a["label"])
+            for a in json.loads(out.read_text())["alternatives"]} == named
+    assert main(["optimize", str(case), "--alternative", "A3", "--json", str(out),
+                 "--quiet"]) == 0
+    (one,) = json.loads(out.read_text())["alternatives"]
+    assert one["code"] == "A3" and (one["code"], one["label"]) == named[one["name"]]

@@ -956,7 +956,7 @@ def _ranked_rows(ranked, choices: list[_Choice]) -> list[_Row]:
 
 def cmd_optimize(args) -> int:
     from .build import build_loop
-    from .study import Alternative, Task, rank, run_tasks
+    from .study import Alternative, Task, alternative_labels, rank, run_tasks
 
     target = _json_target(args)
     plots = _folder_target("--plots", args.plots)
@@ -980,8 +980,10 @@ def cmd_optimize(args) -> int:
         progress.close()
         if client is not None:
             client.close()
-    done = [Alternative(name, options, loop, optima[("base", name)])
-            for name, options, loop in loops]
+    codes = dict(zip([name for name, _, _ in alts],
+                     alternative_labels(case, [(name, ch) for name, ch, _ in alts]), strict=True))
+    done = [Alternative(name, options, loop, optima[("base", name)], code=codes[name][0],
+                        label=codes[name][1]) for name, options, loop in loops]
     ranked = rank(done)
     currency = done[0].loop.prices.currency
     _print(_table(_ranked_rows(ranked, choices), currency, ranked=True), out)
