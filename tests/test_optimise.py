@@ -166,6 +166,26 @@ def test_global_solver_finds_the_same_optimum():
     assert a == pytest.approx(opt.state.purge_fraction, rel=1e-3)
 
 
+def test_global_solver_agrees_with_a_fuel_sink_of_limited_capacity():
+    """The demo's standard grade (its fuel header takes 45 GJ/h, the rest is flared) at a
+    fixed per-pass conversion: SCIP with the purge fraction free finds the same optimum."""
+    pytest.importorskip("pyscipopt")
+    raw = tomllib.loads((CASES / "ammonia_demo.toml").read_text())
+    for key in ("options", "alternatives", "exclude"):
+        raw.pop(key, None)
+    raw["makeup_sources"] = ["standard"]
+    reaction = raw["reactions"][0]
+    reaction.update(per_pass="fixed", per_pass_conversion=0.1745)
+    reaction.pop("approach_to_equilibrium")
+    reaction.pop("equilibrium")
+    loop = build_loop(validate_case_dict(raw), "fuel sink")
+    assert loop.fuel_capacity_gj_h == 45.0
+    a, tac, results, opt = solve_exact_with(loop, "scip_direct", **{"limits/gap": 1e-6})
+    assert "optimal" in str(results.solver.termination_condition)
+    assert tac == pytest.approx(opt.state.tac_per_year, rel=1e-6)
+    assert a == pytest.approx(opt.state.purge_fraction, rel=1e-3)
+
+
 def test_tighter_inert_limit_binds():
     """An inert limit below the unconstrained optimum's inert level binds and is reported."""
     # an alternative whose optimum lies inside the inert limit (with the standard grade the

@@ -370,8 +370,9 @@ def solve_exact_with(loop: Loop, solver_name: str = "scip_direct", **options):
     """The same model with the purge fraction free and exact capital, for a global solver.
 
     Used by the tests to check the reduced-space answer; returns (a, TAC, results).
-    The recycle work and volume coefficients are taken converged from the
-    reduced-space solution at the same alternative's optimum.
+    The recycle work and volume coefficients (and a fuel sink's kmol per GJ)
+    are taken converged from the reduced-space solution at the same
+    alternative's optimum.
     """
     import pyomo.environ as pyo
 
@@ -383,6 +384,9 @@ def solve_exact_with(loop: Loop, solver_name: str = "scip_direct", **options):
     m = build_model(loop, capital="exact", design="free")
     m.recycle_work_kj_kmol = opt.state.recycle_work_kj_kmol
     m.catalyst_volume_per_feed_m3_h_kmol = opt.state.catalyst_volume_per_feed_m3_h_kmol
+    if loop.fuel_capacity_gj_h is not None:  # the purge gas's kmol per GJ at the optimum
+        q = opt.state.quantities
+        m.disposal_kmol_per_gj = q["disposal_kmol_h"] / q["disposal_heat_gj_h"]
     for i, x in opt.state.conversion.items():
         m.conversion[i].fix(x)
     m.purge_fraction.unfix()
