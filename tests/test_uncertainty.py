@@ -517,3 +517,17 @@ def test_sobol_indices_of_the_choice_on_the_demo(demo):
     # the two make-up prices carry the choice between the two grades; power hardly
     assert max(by_name, key=by_name.get).startswith("sources.")
     assert by_name["economics.power_price_per_kwh"] < 0.2
+
+
+def test_checking_an_uncertainty_table_imports_no_scipy():
+    """Validation alone stays light: the distributions' supports need no SciPy."""
+    import subprocess
+    import sys
+
+    demo = Path(__file__).resolve().parents[1] / "cases" / "ammonia_demo.toml"
+    code = ("import sys; from purgeplan.case import load_case; "
+            f"case, _ = load_case({str(demo)!r}); assert case.uncertainty is not None; "
+            "print(sorted(m for m in sys.modules if m.split('.')[0] == 'scipy'))")
+    out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True,
+                         check=True).stdout.strip()
+    assert out == "[]"

@@ -20,6 +20,7 @@ Sobol indices: Sobol', I. M. (2001), *Mathematics and Computers in Simulation*
 
 from __future__ import annotations
 
+import math
 from dataclasses import dataclass
 
 import numpy as np
@@ -59,10 +60,11 @@ class Distribution:
         raise ValueError(f"unknown distribution {self.kind!r}")
 
     def support(self) -> tuple[float, float]:
-        """The smallest and largest value a sample can take."""
-        lo, hi = self.frozen().support()
-        return (max(lo, self.low) if self.low is not None else float(lo),
-                min(hi, self.high) if self.high is not None else float(hi))
+        """The smallest and largest value a sample can take (no SciPy needed: case checks)."""
+        lo, hi = {"normal": (-math.inf, math.inf),
+                  "lognormal": (0.0, math.inf)}.get(self.kind, (self.low, self.high))
+        return (max(lo, self.low) if self.low is not None else lo,
+                min(hi, self.high) if self.high is not None else hi)
 
     def from_unit(self, u: np.ndarray) -> np.ndarray:
         """Values at the unit-interval points ``u``: the inverse CDF within the bounds."""
