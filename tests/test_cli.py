@@ -534,7 +534,7 @@ def test_study_ends_with_the_caution_and_writes_the_records(tmp_path, capsys):
 
 def test_optimize_json_carries_the_codes_and_labels_the_study_gives(tmp_path):
     """`optimize` names alternatives as `study` does, also for one picked by its code."""
-    case = Path(purgeplan.__file__).resolve().parents[2] / "cases" / "hydrogenation_demo.toml"
+    case = Path(__file__).resolve().parents[1] / "cases" / "hydrogenation_demo.toml"
     study, out = tmp_path / "s.json", tmp_path / "o.json"
     assert main(["study", str(case), "-o", str(tmp_path / "s.xlsx"), "--json", str(study),
                  "--quiet"]) == 0
