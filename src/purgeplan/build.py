@@ -34,7 +34,8 @@ def _reaction(spec, data: Mapping[str, ComponentData]) -> Reaction:
         fugacity=eq.fugacity if eq else "ideal",
         fugacity_correction_factor=eq.fugacity_correction_factor if eq else 1.0,
         delta_h_298_j_mol=dh, delta_s_298_j_mol_k=ds, delta_cp_coefficients=dcp,
-        sizing=spec.sizing.model_dump() if spec.sizing else None)
+        sizing=spec.sizing.model_dump() if spec.sizing else None,
+        rate=spec.rate.model_dump() if spec.rate is not None else None)
 
 
 def _with_equilibrium_rhs(r: Reaction, temperature_k: float, pressure_bar: float) -> Reaction:

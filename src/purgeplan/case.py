@@ -91,17 +91,29 @@ class SizingSpec(_Strict):
     equilibrium_conversion: OpenFraction
     conversion_min: OpenFraction = 0.05
     conversion_max: OpenFraction = 0.95
+    approach_to_equilibrium_max: OpenFraction | None = None
+
+
+class RateSpec(_Strict):
+    """A catalyst bed sized from a rate expression (per_pass = "rate")."""
+
+    law: Literal["temkin_pyzhev"] = "temkin_pyzhev"
+    effectiveness_factor: UpToOne | Literal["dyson_simon"] = 1.0
+    conversion_min: OpenFraction = 0.02
+    conversion_max: OpenFraction = 0.95
+    approach_to_equilibrium_max: OpenFraction | None = None
 
 
 class ReactionSpec(_Strict):
     name: Name
     stoichiometry: dict[Name, Finite]
     key_reactant: Name
-    per_pass: Literal["fixed", "equilibrium", "sized"] = "fixed"
+    per_pass: Literal["fixed", "equilibrium", "sized", "rate"] = "fixed"
     per_pass_conversion: OpenFraction | None = None
     approach_to_equilibrium: UpToOne | None = None
     equilibrium: EquilibriumSpec | None = None
     sizing: SizingSpec | None = None
+    rate: RateSpec | None = None
 
 
 class ReactorSpec(_Strict):
@@ -457,8 +469,10 @@ def _component_check(case: Case) -> _Need:
 def _check_reactions(case: Case, need: _Need) -> None:
     for i, r in enumerate(case.reactions):
         _check_reaction(f"reactions[{i}]", r, need)
-    if sum(r.per_pass == "sized" for r in case.reactions) > 1:
-        raise CaseError("reactions", "at most one reaction may have per_pass = 'sized'")
+    if sum(r.per_pass in ("sized", "rate") or r.rate is not None
+           for r in case.reactions) > 1:
+        raise CaseError("reactions", "at most one reaction may be sized (per_pass 'sized' or "
+                        "'rate', or a rate table): the loop has one converter")
 
 
 def _check_reaction(base: str, r: ReactionSpec, need: _Need) -> None:
@@ -470,14 +484,38 @@ def _check_reaction(base: str, r: ReactionSpec, need: _Need) -> None:
     if r.stoichiometry.get(r.key_reactant, 0) >= 0:
         raise CaseError(f"{base}.key_reactant",
                         f"'{r.key_reactant}' must be consumed (negative coefficient)")
-    needs = {"fixed": "per_pass_conversion", "equilibrium": "approach_to_equilibrium",
-             "sized": "sizing"}[r.per_pass]
-    if getattr(r, needs) is None:
-        raise CaseError(f"{base}.{needs}", f"required when per_pass = '{r.per_pass}'")
+    needs = {"fixed": ("per_pass_conversion",), "equilibrium": ("approach_to_equilibrium",),
+             "sized": ("sizing",), "rate": ("rate", "per_pass_conversion")}[r.per_pass]
+    for key in needs:
+        if getattr(r, key) is None:
+            raise CaseError(f"{base}.{key}", f"required when per_pass = '{r.per_pass}'")
     if r.per_pass == "equilibrium" and r.equilibrium is None:
         raise CaseError(f"{base}.equilibrium", "required when per_pass = 'equilibrium'")
     if r.sizing is not None:
         _check_sizing(f"{base}.sizing", r.sizing)
+        if r.sizing.approach_to_equilibrium_max is not None and r.equilibrium is None:
+            raise CaseError(f"{base}.sizing.approach_to_equilibrium_max",
+                            "needs the reaction's equilibrium table (without it the sizing's "
+                            "equilibrium_conversion is fixed: bound conversion_max instead)")
+    if r.rate is not None:
+        _check_rate(base, r)
+
+
+def _check_rate(base: str, r: ReactionSpec) -> None:
+    """The Temkin-Pyzhev constants of Dyson and Simon (1968) belong to their equilibrium:
+    the rate is zero there and nowhere else (its reaction is then checked to be ammonia
+    synthesis with the property data, :mod:`purgeplan.case_checks`)."""
+    if r.per_pass not in ("rate", "equilibrium"):
+        raise CaseError(f"{base}.rate", "sizes the catalyst of per_pass = 'rate' or "
+                        f"'equilibrium' only, not '{r.per_pass}': delete it or change per_pass")
+    eq = r.equilibrium
+    if (eq is None or eq.constant != "ammonia_gillespie_beattie" or eq.fugacity != "dyson_simon"
+            or eq.fugacity_correction_factor != 1.0):
+        raise CaseError(f"{base}.equilibrium", "the Temkin-Pyzhev rate of Dyson and Simon needs "
+                        "their equilibrium: { constant = \"ammonia_gillespie_beattie\", "
+                        "fugacity = \"dyson_simon\" } with no correction factor")
+    if not r.rate.conversion_min < r.rate.conversion_max:
+        raise CaseError(f"{base}.rate.conversion_max", "need conversion_min < conversion_max")
 
 
 def _check_sizing(base: str, s: SizingSpec) -> None:

@@ -738,9 +738,9 @@ def _reaction_line(r) -> str:
     pr = " + ".join(f"{v:g} {c}" for c, v in r.stoichiometry.items() if v > 0)
     if r.per_pass == "fixed":
         how = f"per-pass conversion fixed at {r.per_pass_conversion:g}"
-    elif r.sizing is not None:
-        how = (f"per-pass conversion from the reactor size, between "
-               f"{r.sizing['conversion_min']:g} and {r.sizing['conversion_max']:g}")
+    elif r.per_pass in ("sized", "rate"):
+        lo, hi = r.conversion_bounds
+        how = f"per-pass conversion from the reactor size, between {lo:g} and {hi:g}"
     else:
         how = (f"per-pass conversion at {r.approach_to_equilibrium:g} of the approach to "
                "equilibrium")

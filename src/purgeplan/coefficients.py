@@ -15,7 +15,7 @@ from collections.abc import Mapping
 import numpy as np
 
 from .loop import Loop, Reaction
-from .physics import compression, reactor, thermo
+from .physics import compression, kinetics, reactor, thermo
 from .physics import equilibrium as eq
 from .properties import ComponentData
 
@@ -38,7 +38,8 @@ def recycle_work_kj_kmol(loop: Loop, recycle_composition: Mapping[str, float]) -
 
 
 def catalyst_volume_per_feed_m3_h_kmol(loop: Loop, conversion: Mapping[int, float],
-                                       equilibrium: Mapping[int, float] | None = None
+                                       equilibrium: Mapping[int, float] | None = None,
+                                       inlet_kmol_h: Mapping[str, float] | None = None
                                        ) -> float:
     """Catalyst volume per kmol/h of reactor feed [m3 h/kmol].
 
@@ -46,10 +47,17 @@ def catalyst_volume_per_feed_m3_h_kmol(loop: Loop, conversion: Mapping[int, floa
     calibrated at its reference point (where the case gives the equilibrium
     conversion); at the state, the equilibrium conversion computed at the
     reactor inlet where the reaction has equilibrium data (``equilibrium``),
-    else the case's.  The volume grows without bound as the conversion nears
-    equilibrium and is infinite at or beyond it.  Otherwise the set space
-    velocity.
+    else the case's.  A reaction with a rate expression (a rate-based
+    reactor, or an equilibrium reactor sized by its rate) integrates the rate
+    over an isothermal bed from the reactor inlet composition
+    (``inlet_kmol_h``; the make-up gas's where not given) to its conversion,
+    so inerts, which dilute the reactants, cost catalyst.  Either volume
+    grows without bound as the conversion nears equilibrium and is infinite
+    at or beyond it.  Otherwise the set space velocity.
     """
+    i = loop.rate_reaction
+    if i is not None:
+        return _rate_bed_volume_per_feed(loop, i, conversion[i], equilibrium, inlet_kmol_h)
     i = loop.sized_reaction
     if i is None:
         return reactor.catalyst_volume_from_space_velocity_m3(1.0, loop.space_velocity_per_h)
@@ -61,6 +69,34 @@ def catalyst_volume_per_feed_m3_h_kmol(loop: Loop, conversion: Mapping[int, floa
     return (s["reference_volume_m3"] / s["reference_feed_kmol_h"]
             * g(conversion[i], x_e)
             / g(s["reference_conversion"], s["equilibrium_conversion"]))
+
+
+def _rate_bed_volume_per_feed(loop: Loop, i: int, conversion: float,
+                              equilibrium: Mapping[int, float] | None,
+                              inlet_kmol_h: Mapping[str, float] | None) -> float:
+    """Isothermal bed of a rate-based reaction per kmol/h of feed [m3 h/kmol]."""
+    r, comps = loop.reactions[i], loop.components
+    if inlet_kmol_h is None:
+        inlet_kmol_h = loop.makeup_sources[0].composition
+    y0 = np.array([max(inlet_kmol_h[c], 0.0) for c in comps])
+    y0 = y0 / y0.sum()
+    x_e = (equilibrium or {}).get(i)
+    if x_e is None:
+        x_e = equilibrium_conversions(loop, dict(zip(comps, y0, strict=True)))[i]
+    nu = np.array([r.stoichiometry.get(c, 0.0) for c in comps])
+    at = {c: comps.index(c) for c in ("N2", "H2", "NH3")}
+    t, p = loop.reactor_temperature_k, loop.pressure_bar
+    per_extent = r.stoichiometry["NH3"]
+    eta = r.rate["effectiveness_factor"]
+
+    def rate(y):
+        nh3 = y[at["NH3"]]
+        factor = (kinetics.dyson_simon_effectiveness_factor(t, p, nh3) if eta == "dyson_simon"
+                  else eta)
+        return factor * kinetics.temkin_pyzhev_rate_kmol_m3_h(
+            t, p, y[at["N2"]], y[at["H2"]], nh3) / per_extent
+    return reactor.isothermal_bed_volume_per_feed_m3_h_kmol(
+        rate, y0, nu, comps.index(r.key_reactant), conversion, x_e)
 
 
 def equilibrium_rhs(r: Reaction, temperature_k: float, pressure_bar: float) -> float:

@@ -220,6 +220,7 @@ def steady_state(loop: Loop, purge_fraction: float | None = None,
                     tolerance=tolerance, max_iterations=max_iterations)
     return make_state(loop, a, done.conversion, done.flows, done.extents, done.sources,
                       done.recycle_work_kj_kmol,
-                      coefficients.catalyst_volume_per_feed_m3_h_kmol(loop, done.conversion,
-                                                                      done.equilibrium_conversion),
+                      coefficients.catalyst_volume_per_feed_m3_h_kmol(
+                          loop, done.conversion, done.equilibrium_conversion,
+                          done.flows["reactor_feed"]),
                       done.equilibrium_conversion, route="direct linear solve")

@@ -38,12 +38,13 @@ class Converged:
 
 
 def initial_conversions(loop: Loop, given: Mapping[int, float] | None = None) -> dict[int, float]:
-    """Starting per-pass conversions: fixed values, the sized reference, half of equilibrium."""
+    """Starting per-pass conversions: fixed and present values, the sized reference, half of
+    equilibrium."""
     out = {}
     for i, r in enumerate(loop.reactions):
         if given and i in given:
             out[i] = float(given[i])
-        elif r.per_pass == "fixed":
+        elif r.per_pass in ("fixed", "rate"):
             out[i] = r.per_pass_conversion
         elif r.per_pass == "sized":
             out[i] = r.sizing["reference_conversion"]

@@ -46,6 +46,10 @@ class Limit:
         Whether the limit is relaxed while the inner fixed point still moves
         the per-pass conversion (a ratio the blend holds is not: without it
         the blend has no sense to start from).
+    in_model : bool
+        Whether the limit is a constraint of the linear programme; one over
+        the state's coefficients only (the approach to equilibrium) is
+        checked on each converged state instead.
     """
 
     name: str
@@ -57,6 +61,7 @@ class Limit:
     unit: str = "-"
     per: str = ""
     relaxed: bool = True
+    in_model: bool = True
 
 
 def loop_limits(loop: Loop) -> tuple[Limit, ...]:
@@ -86,11 +91,16 @@ def loop_limits(loop: Loop) -> tuple[Limit, ...]:
             Limit("purge_fraction_max", "purge_fraction", loop.purge_fraction_max, "max",
                   "design", "the largest purge fraction allowed")]
     k = loop.sized_reaction
+    approach = loop.reactions[k].approach_to_equilibrium_max if k is not None else None
+    if approach is not None:
+        out.append(Limit("max_approach_to_equilibrium", f"per_pass_conversion:{k}", approach,
+                         "max", "state", "the largest approach to equilibrium allowed",
+                         per=f"equilibrium_conversion:{k}", in_model=False))
     if k is not None:
-        s = loop.reactions[k].sizing
-        out += [Limit("conversion_min", f"per_pass_conversion:{k}", s["conversion_min"], "min",
+        lo, hi = loop.reactions[k].conversion_bounds
+        out += [Limit("conversion_min", f"per_pass_conversion:{k}", lo, "min",
                       "design", "the smallest per-pass conversion allowed"),
-                Limit("conversion_max", f"per_pass_conversion:{k}", s["conversion_max"], "max",
+                Limit("conversion_max", f"per_pass_conversion:{k}", hi, "max",
                       "design", "the largest per-pass conversion allowed")]
     return tuple(out)
 

@@ -30,7 +30,11 @@ __all__ = ["KELVIN", "Capital", "InletRatio", "Loop", "Prices", "Reaction", "Sou
 class Reaction:
     """One reaction with its per-pass model.
 
-    ``per_pass`` is "fixed", "equilibrium" or "sized".  ``equilibrium_method``
+    ``per_pass`` is "fixed", "equilibrium", "sized" (a first-order sizing
+    relation) or "rate" (a catalyst bed integrated over the rate expression
+    ``rate``); the last two make the conversion a design variable.  An
+    equilibrium reaction with a ``rate`` sizes its catalyst from the rate at
+    its approach to equilibrium.  ``equilibrium_method``
     names how K(T) is found ("ammonia_gillespie_beattie" or "formation_data"),
     None without equilibrium data; ``equilibrium_rhs`` is the right-hand side
     ln K - dnu ln(P/P0) - sum nu ln phi - ln K_phi at the reactor's
@@ -51,11 +55,24 @@ class Reaction:
     delta_cp_coefficients: tuple | None
     sizing: dict | None
     equilibrium_rhs: float | None = None
+    rate: dict | None = None
 
     @property
     def key_coefficient(self) -> float:
         """|nu| of the key reactant [-]."""
         return -self.stoichiometry[self.key_reactant]
+
+    @property
+    def approach_to_equilibrium_max(self) -> float | None:
+        """A sized or rate-based reactor's bound on X / X_e, None for none [-]."""
+        spec = self.sizing if self.per_pass == "sized" else self.rate
+        return spec.get("approach_to_equilibrium_max") if spec else None
+
+    @property
+    def conversion_bounds(self) -> tuple[float, float]:
+        """The box of a sized or rate-based reactor's per-pass conversion [-]."""
+        spec = self.sizing if self.per_pass == "sized" else self.rate
+        return spec["conversion_min"], spec["conversion_max"]
 
 
 @dataclass(frozen=True)
@@ -201,7 +218,14 @@ class Loop:
 
     @property
     def sized_reaction(self) -> int | None:
-        return next((i for i, r in enumerate(self.reactions) if r.per_pass == "sized"), None)
+        """The reaction whose per-pass conversion is a design variable (its reactor's size)."""
+        return next((i for i, r in enumerate(self.reactions)
+                     if r.per_pass in ("sized", "rate")), None)
+
+    @property
+    def rate_reaction(self) -> int | None:
+        """The reaction whose catalyst is sized from a rate expression, if any."""
+        return next((i for i, r in enumerate(self.reactions) if r.rate is not None), None)
 
     @property
     def product_molar_mass(self) -> float:

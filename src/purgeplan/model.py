@@ -68,7 +68,7 @@ def add_limits(m: pyo.ConcreteModel, loop: Loop, q: dict) -> None:
     ``relaxed`` False (an inlet ratio the blend holds) is never relaxed.
     """
     m.limit_relaxation = pyo.Param(mutable=True, initialize=0.0)
-    table = {lim.name: lim for lim in limits.state_limits(loop)}
+    table = {lim.name: lim for lim in limits.state_limits(loop) if lim.in_model}
     if not table:
         return
 

@@ -76,10 +76,7 @@ class LoopLP:
 
     def __init__(self, loop: Loop, time_limit_s: float | None = None,
                  solver_options: dict | None = None, route: str = "auto"):
-        self.loop = loop
-        self.pricing = costing(loop)
-        self.limits = limits.loop_limits(loop)
-        self.state_limits = limits.state_limits(loop)
+        self._take(loop)
         self.square = not loop.blend_free
         self.use_highs = route == "highs" or not self.square
         self.states: dict[tuple, LoopState | None] = {}
@@ -88,9 +85,10 @@ class LoopLP:
         self.unlimited: dict[tuple, LoopState] = {}
         self.converged: list[tuple[float, dict]] = []
         self.conversion = initial_conversions(loop)
-        #: Equilibrium conversions of the state converged last (a sized reactor's LP
-        #: capital uses them) [-].
+        #: Equilibrium conversions [-] and reactor inlet [kmol/h] of the state converged
+        #: last: a sized or rate-based reactor's LP capital uses them.
         self.equilibrium: dict[int, float] = {}
+        self.reactor_inlet: dict[str, float] | None = None
         self.work: float | None = None
         self.slopes: dict[int, float] = {}
         self.sizes: dict[str, float] = {}
@@ -106,6 +104,15 @@ class LoopLP:
             self.model = build_model(loop)
             self.lp = PersistentLP(self.model, solver_options, time_limit_s)
         self.restart(time_limit_s)
+
+    def _take(self, loop: Loop) -> None:
+        """The loop, its costing and its limits (on building, and on re-pricing)."""
+        self.loop = loop
+        self.pricing = costing(loop)
+        self.limits = limits.loop_limits(loop)
+        self.state_limits = limits.state_limits(loop)
+        #: The state limits not in the LP, checked on each state it gives.
+        self.checked_limits = tuple(lim for lim in self.state_limits if not lim.in_model)
 
     def restart(self, time_limit_s: float | None) -> None:
         """Start a new wall-clock budget."""
@@ -141,12 +148,12 @@ class LoopLP:
             for i, xi in conversion.items():
                 m.conversion[i] = xi
             m.recycle_work_kj_kmol = work
-            # the LP's reactor capital at the equilibrium of the state converged last; the
-            # state itself is costed at its own (see _state)
+            # the LP's reactor capital at the equilibrium and inlet of the state converged
+            # last; the state itself is costed at its own (see _state)
             volume = coefficients.catalyst_volume_per_feed_m3_h_kmol(
-                self.loop, conversion, self.equilibrium)
-            if not math.isfinite(volume):  # past the last state's equilibrium: the case's
-                volume = coefficients.catalyst_volume_per_feed_m3_h_kmol(self.loop, conversion)
+                self.loop, conversion, self.equilibrium, self.reactor_inlet)
+            if not math.isfinite(volume):  # past the last state's equilibrium: as it was
+                volume = m.catalyst_volume_per_feed_m3_h_kmol.value
             if not (math.isfinite(work) and math.isfinite(volume)):
                 raise SolverFailure("a coefficient of the LP is not finite (recycle work "
                                     f"{work:g} kJ/kmol, catalyst volume per feed "
@@ -193,8 +200,8 @@ class LoopLP:
         return make_state(
             loop, purge_fraction, done.conversion, done.flows, done.extents, done.sources,
             done.recycle_work_kj_kmol,
-            coefficients.catalyst_volume_per_feed_m3_h_kmol(loop, done.conversion,
-                                                            done.equilibrium_conversion),
+            coefficients.catalyst_volume_per_feed_m3_h_kmol(
+                loop, done.conversion, done.equilibrium_conversion, done.flows["reactor_feed"]),
             done.equilibrium_conversion, self.pricing, balances=False, route=self.route)
 
     def _converge(self, purge_fraction: float, x: dict) -> LoopState | None:
@@ -241,14 +248,16 @@ class LoopLP:
             self.sizes[line.key] = size
         return moved
 
-    def _refresh_equilibrium(self, state: LoopState) -> bool:
-        """Step 3 also moves a sized reactor's equilibrium conversion to the state's."""
-        i = self.loop.sized_reaction
-        if i is None or i not in state.equilibrium_conversion:
+    def _refresh_reactor(self, state: LoopState) -> bool:
+        """Step 3 also moves a sized reactor's, or one sized by its rate, catalyst volume
+        per feed to the state's (its equilibrium conversion and inlet composition)."""
+        if self.loop.sized_reaction is None and self.loop.rate_reaction is None:
             return False
-        new, old = state.equilibrium_conversion[i], self.equilibrium.get(i)
         self.equilibrium = dict(state.equilibrium_conversion)
-        return old is None or abs(new - old) > TANGENT_TOLERANCE * new
+        self.reactor_inlet = dict(state.flows["reactor_feed"])
+        new = state.catalyst_volume_per_feed_m3_h_kmol
+        old = self.model.catalyst_volume_per_feed_m3_h_kmol.value
+        return abs(new - old) > TANGENT_TOLERANCE * new
 
     def _refresh_fuel_sink(self, state: LoopState) -> bool:
         """Step 3 also moves the purge gas's kmol per GJ of a fuel sink with a capacity."""
@@ -309,7 +318,7 @@ class LoopLP:
             if self.square:
                 return self._keep_checked(key, state)
             if (self._refresh_capital_tangents(state) | self._refresh_fuel_sink(state)
-                    | self._refresh_equilibrium(state)):
+                    | self._refresh_reactor(state)):
                 x = dict(state.conversion)
                 continue
             if relaxed:
@@ -317,6 +326,8 @@ class LoopLP:
                 relaxed = False
                 x = dict(state.conversion)
                 continue
+            if limits.violated(self.checked_limits, state.quantities):
+                state = None
             self.states[key] = state
             return state
         raise SolverFailure("the capital tangents did not settle in "
@@ -386,10 +397,7 @@ class LoopLP:
         """Take the prices of ``loop``, re-costing every converged state (see can_reprice)."""
         if not self.can_reprice(loop):
             raise ValueError("reprice needs the same loop physics and an LP with no freedom")
-        self.loop = loop
-        self.pricing = costing(loop)
-        self.limits = limits.loop_limits(loop)
-        self.state_limits = limits.state_limits(loop)
+        self._take(loop)
         self.restart(time_limit_s)
         self.states = {}
         for key, st in list(self.unlimited.items()):

@@ -17,6 +17,7 @@ from dataclasses import dataclass, field
 from . import costs
 from .equations import LoopVariables, quantities
 from .loop import Loop
+from .physics import kinetics
 
 
 @dataclass
@@ -54,6 +55,12 @@ class LoopState:
     def first_reaction_conversion(self) -> float:
         """Per-pass conversion of the key reactant of the case's first reaction [-]."""
         return self.conversion[0]
+
+    @property
+    def approach_to_equilibrium(self) -> dict[int, float]:
+        """Per-pass over equilibrium conversion of each reaction with equilibrium data [-]."""
+        return {i: self.conversion[i] / x_e
+                for i, x_e in self.equilibrium_conversion.items() if x_e > 0.0}
 
     @property
     def balance_error(self) -> float:
@@ -149,6 +156,13 @@ def unit_warnings(loop: Loop) -> list[str]:
             "taken at loop pressure and no recompression is charged"]
 
 
+def rate_warnings(loop: Loop) -> list[str]:
+    """A warning where a rate-based reactor works outside its rate's fitted conditions."""
+    if loop.rate_reaction is None:
+        return []
+    return kinetics.fitted_range_warnings(loop.reactor_temperature_k, loop.pressure_bar)
+
+
 def costing(loop: Loop) -> tuple[list, dict[str, float]]:
     """The cost lines of a loop and the values of its assumptions."""
     return costs.cost_lines(loop), costs.values(costs.assumptions(loop))
@@ -169,6 +183,8 @@ def make_state(loop: Loop, purge_fraction: float, conversion: dict[int, float],
     v = LoopVariables(flow=_Values(flows), extent=extents, source=sources,
                       purge_fraction=purge_fraction, conversion=conversion)
     q = quantities(v, loop, work_kj_kmol, volume_per_feed)
+    q.update({f"equilibrium_conversion:{i}": x_e
+              for i, x_e in (equilibrium_conversion or {}).items()})
     cost_lines, table = pricing or costing(loop)
     lines = costs.evaluate(cost_lines, q, table)
     tac = float(sum(lines.values()))
@@ -199,7 +215,8 @@ def make_state(loop: Loop, purge_fraction: float, conversion: dict[int, float],
         recycle_work_kj_kmol=float(work_kj_kmol),
         catalyst_volume_per_feed_m3_h_kmol=float(volume_per_feed),
         equilibrium_conversion=dict(equilibrium_conversion or {}), route=route,
-        warnings=costs.price_warnings(loop) + unit_warnings(loop) + ratio_warnings(loop, ratios),
+        warnings=(costs.price_warnings(loop) + unit_warnings(loop) + rate_warnings(loop)
+                  + ratio_warnings(loop, ratios)),
         inlet_ratio=ratios)
 
 

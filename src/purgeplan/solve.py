@@ -37,6 +37,9 @@ log = logging.getLogger(__name__)
 SCAN_POINTS = 11
 #: Points of the scan over a sized reactor's conversion at each purge fraction.
 SIZED_SCAN_POINTS = 9
+#: Factor either side of a neighbour's best conversion that bounds the first, narrow
+#: search of a sized reactor's conversion [-].
+WARM_BOX = 1.25
 
 
 @dataclass
@@ -112,9 +115,9 @@ def _method(loop: Loop, solver: LoopLP, scan_points: int, xtol_rel: float, solve
             f"[{lo:g}, {hi:g}], feasibility edges by root finding and bounded Brent refinement "
             f"to a relative tolerance of {xtol_rel:g} in the purge fraction")
     if k is not None:
-        s = loop.reactions[k].sizing
-        text += (f"; per-pass conversion searched the same way in [{s['conversion_min']:g}, "
-                 f"{s['conversion_max']:g}] at each purge fraction")
+        lo, hi = loop.reactions[k].conversion_bounds
+        text += (f"; per-pass conversion searched the same way in [{lo:g}, {hi:g}] at each "
+                 "purge fraction")
     route = ("the LP has no freedom left, so each point is its single feasible solution, found "
              "by the direct linear solve of the loop equations" if solver.route == ROUTE_DIRECT
              else "HiGHS LP at every point")
@@ -173,7 +176,7 @@ def optimise(loop: Loop, *, scan_points: int = SCAN_POINTS, xtol_rel: float = 1e
             if reuse is not None:
                 solver.start_from(reuse)
         solves_before = solver.solves
-        f, inner = _objective(loop, solver, xtol_rel)
+        f, inner = objective(loop, solver, xtol_rel)
         margin = None if loop.sized_reaction is not None else solver.margin
         a_best, _, samples = scan_and_refine(f, loop.purge_fraction_min,
                                              loop.purge_fraction_max, scan_points, xtol_rel,
@@ -207,17 +210,37 @@ def optimise(loop: Loop, *, scan_points: int = SCAN_POINTS, xtol_rel: float = 1e
         return _failed(loop, info, exc.status, str(exc), t0)
 
 
-def _objective(loop: Loop, solver: LoopLP, xtol_rel: float):
-    """TAC as a function of the purge fraction, and the best conversion found at each."""
+def objective(loop: Loop, solver: LoopLP, xtol_rel: float):
+    """TAC as a function of the purge fraction, and the best conversion found at each.
+
+    Where a reactor's size is a design variable, its per-pass conversion is
+    searched at each purge fraction: first in a narrow box around the best
+    conversion of the nearest purge fraction searched so far (the optimum
+    moves smoothly with the purge fraction), and over the whole box where the
+    minimum is not inside the narrow one (scan and bounded Brent refinement
+    in both).
+    """
     k = loop.sized_reaction
     inner: dict[float, float] = {}
     if k is None:
         return solver.tac, inner
-    s = loop.reactions[k].sizing
+    lo, hi = loop.reactions[k].conversion_bounds
 
     def f(a):
-        x, v, _ = scan_and_refine(lambda x: solver.tac(a, x), s["conversion_min"],
-                                  s["conversion_max"], SIZED_SCAN_POINTS, xtol_rel)
+        def g(x):
+            return solver.tac(a, x)
+
+        def margin(x):
+            return solver.margins.get((a, x))
+        if inner:
+            near = inner[min(inner, key=lambda b: abs(math.log(b / a)))]
+            box = (max(lo, near / WARM_BOX), min(hi, near * WARM_BOX))
+            x, v, _ = scan_and_refine(g, *box, 3, xtol_rel, margin)
+            if x is not None and not any(x == end != bound for end, bound in zip(box, (lo, hi),
+                                                                                  strict=True)):
+                inner[a] = x
+                return v
+        x, v, _ = scan_and_refine(g, lo, hi, SIZED_SCAN_POINTS, xtol_rel, margin)
         if x is not None:
             inner[a] = x
         return v

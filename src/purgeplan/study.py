@@ -28,8 +28,7 @@ from .case import MAX_LABEL_CHARS, Case, expand_alternatives
 from .executor import map_tasks
 from .loop import Loop
 from .reduced_space import LoopLP
-from .search import scan_and_refine
-from .solve import SIZED_SCAN_POINTS, Optimum, evaluate_at, optimise
+from .solve import Optimum, evaluate_at, objective, optimise
 from .uncertainty import UncertaintyResult, run_uncertainty
 
 
@@ -576,19 +575,6 @@ def purge_grid(optima: list[float], lo: float, hi: float, points: int = GRID_POI
     return [a for a in grid if lo <= a <= hi] or [min(max(top / 2, lo), hi)]
 
 
-def _grid_objective(loop: Loop, solver: LoopLP):
-    """TAC at a purge fraction (inf where infeasible); a sized reactor's conversion optimised."""
-    k = loop.sized_reaction
-    if k is None:
-        return solver.tac
-    s = loop.reactions[k].sizing
-
-    def f(a):
-        return scan_and_refine(lambda x: solver.tac(a, x), s["conversion_min"],
-                               s["conversion_max"], SIZED_SCAN_POINTS, 1e-6)[1]
-    return f
-
-
 def cost_on_grid(alt: Alternative, grid: list[float]) -> None:
     """The alternative's TAC on the grid, and where its curve stops at the low-purge end.
 
@@ -599,7 +585,7 @@ def cost_on_grid(alt: Alternative, grid: list[float]) -> None:
     steady state beyond the edge.
     """
     solver = LoopLP(alt.loop)
-    f = _grid_objective(alt.loop, solver)
+    f, _ = objective(alt.loop, solver, 1e-6)
     alt.grid_tac = [v if math.isfinite(v) else None for v in map(f, grid)]
     alt.curve_edge = None
     first = next((k for k, v in enumerate(alt.grid_tac) if v is not None), len(grid))

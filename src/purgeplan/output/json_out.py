@@ -89,6 +89,7 @@ def alternative_record(name: str, loop: Loop, opt: Optimum, choices: dict | None
                        "key_reactant": r.key_reactant,
                        "per_pass_conversion": s.conversion[i],
                        "equilibrium_conversion": s.equilibrium_conversion.get(i),
+                       "approach_to_equilibrium": s.approach_to_equilibrium.get(i),
                        "extent_kmol_h": s.extents[i]} for i, r in enumerate(loop.reactions)],
         "streams": s.flows,
         "stream_conditions": {name: {"pressure_bar": pc[0], "temperature_c": pc[1],
