@@ -101,11 +101,11 @@ def bad(id_, seed, edits, *expect):
 
 BAD_INPUTS = [
     # malformed TOML: the message gives the file, the problem and its line
-    bad("malformed-toml", "ammonia", [("pressure_bar = 150", "pressure_bar = = 150")],
-        "is not valid TOML", "Invalid value", f"line {line_of('ammonia', 'pressure_bar = 150')}"),
+    bad("malformed-toml", "ammonia", [("pressure_bar = 160", "pressure_bar = = 160")],
+        "is not valid TOML", "Invalid value", f"line {line_of('ammonia', 'pressure_bar = 160')}"),
     bad("duplicate-key", "ammonia",
-        [("pressure_bar = 150", "pressure_bar = 150\npressure_bar = 1")],
-        "is not valid TOML", f"line {line_of('ammonia', 'pressure_bar = 150') + 1}"),
+        [("pressure_bar = 160", "pressure_bar = 160\npressure_bar = 1")],
+        "is not valid TOML", f"line {line_of('ammonia', 'pressure_bar = 160') + 1}"),
     bad("unterminated-string", "hydrogenation",
         [('product = "cyclohexane"', 'product = "cyclohexane')], "is not valid TOML",
         f"line {line_of('hydrogenation', 'product = ')}"),
@@ -116,7 +116,7 @@ BAD_INPUTS = [
         "compresion", "unknown key", "did you mean 'compression'"),
     bad("unknown-table-for-required", "ammonia", [("[separator]", "[seperator]")],
         "seperator", "unknown key", "did you mean 'separator'"),
-    bad("unknown-key-for-required", "ammonia", [("pressure_bar = 150", "pressure_bars = 150")],
+    bad("unknown-key-for-required", "ammonia", [("pressure_bar = 160", "pressure_bars = 160")],
         "loop.pressure_bars", "unknown key", "did you mean 'pressure_bar'"),
     bad("unknown-key-in-reaction", "ammonia",
         [("approach_to_equilibrium = 0.8", "approach_to_equilibrum = 0.8")],
@@ -125,7 +125,7 @@ BAD_INPUTS = [
     bad("unknown-key-in-component", "ammonia", [("H2 = {}", 'H2 = { identifer = "hydrogen" }')],
         "components.H2.identifer", "unknown key", "did you mean 'identifier'"),
     # a missing key
-    bad("missing-key", "ammonia", [("pressure_bar = 150\n", "")],
+    bad("missing-key", "ammonia", [("pressure_bar = 160\n", "")],
         "loop.pressure_bar", "missing key"),
     bad("missing-key-economics", "hydrogenation", [("power_price_per_kwh = 0.09\n", "")],
         "economics.power_price_per_kwh", "missing key"),
@@ -133,7 +133,7 @@ BAD_INPUTS = [
                                             "space_velocity_per_h = 3000\n", "")],
         "reactor", "missing key"),
     # a wrong unit: the key is unknown and the right one is suggested
-    bad("wrong-unit", "ammonia", [("pressure_bar = 150", "pressure_psi = 150")],
+    bad("wrong-unit", "ammonia", [("pressure_bar = 160", "pressure_psi = 160")],
         "loop.pressure_psi", "unknown key", "did you mean 'pressure_bar'"),
     bad("wrong-unit-optional-key", "ammonia", [("production_t_d = 1200", "production_kg_h = 1200")],
         "loop.production_kg_h", "unknown key", "did you mean 'production_t_d'"),
@@ -146,10 +146,10 @@ BAD_INPUTS = [
         "sources.reformer_hydrogen.supply_pressure_psi", "unknown key",
         "did you mean 'supply_pressure_bar'"),
     # a missing unit
-    bad("missing-unit", "ammonia", [("pressure_bar = 150", "pressure = 150")],
+    bad("missing-unit", "ammonia", [("pressure_bar = 160", "pressure = 160")],
         "loop.pressure", "unknown key", "did you mean 'pressure_bar'"),
-    bad("missing-unit-optional-key", "ammonia",
-        [("space_velocity_per_h = 12000", "space_velocity = 12000")],
+    bad("missing-unit-optional-key", "hydrogenation",
+        [("space_velocity_per_h = 3000", "space_velocity = 3000")],
         "reactor.space_velocity", "unknown key", "did you mean 'space_velocity_per_h'"),
     bad("missing-unit-in-source", "hydrogenation",
         [("price_per_kmol = 70.0\n", "price_per_kmol = 70.0\ntemperature = 40\n")],
@@ -206,8 +206,8 @@ BAD_INPUTS = [
     bad("approach-above-one", "ammonia",
         [("approach_to_equilibrium = 0.8", "approach_to_equilibrium = 1.5")],
         "reactions[0].approach_to_equilibrium = 1.5:", "must be at most 1"),
-    bad("wrong-type", "ammonia", [("pressure_bar = 150", 'pressure_bar = "150 bar"')],
-        "loop.pressure_bar", "'150 bar'", "valid number"),
+    bad("wrong-type", "ammonia", [("pressure_bar = 160", 'pressure_bar = "160 bar"')],
+        "loop.pressure_bar", "'160 bar'", "valid number"),
 ]
 
 

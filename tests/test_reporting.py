@@ -62,8 +62,18 @@ def test_optimize_prints_the_warning_the_unheld_ratio_and_the_hours(tmp_path):
     ratio = record["inlet_ratio"]["H2/N2"]
     assert f"  inlet ratio H2/N2 {ratio:.3f} (not held)" in lines
     hours = record["time_to_inert_limit_h"]
-    assert hours["never_reached"] == ["recovery_down"]
-    assert (f"  hours to the inert limit: purge closed {_hours(hours['purge_closed'])}; "
+    shown = {k: None if k in hours["never_reached"] else hours[k]
+             for k in ("purge_closed", "recovery_down")}
+    assert (f"  hours to the inert limit: purge closed {_hours(shown['purge_closed'])}; "
+            f"recovery unit down: {_hours(shown['recovery_down'])}") in lines
+
+
+def test_optimize_prints_never_where_the_inerts_settle_below_the_limit(tmp_path):
+    """The purified grade with a membrane: its dissolved and let-down gas carry the inerts
+    out even with the purge closed, so neither event reaches the limit."""
+    lines, record = _optimize("purified, fuel, membrane", tmp_path)
+    assert record["time_to_inert_limit_h"]["never_reached"] == ["purge_closed", "recovery_down"]
+    assert ("  hours to the inert limit: purge closed never (settles below the limit); "
             "recovery unit down: never (settles below the limit)") in lines
 
 
