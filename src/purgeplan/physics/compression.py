@@ -14,10 +14,11 @@ efficiency.
 
 A real gas: each stage's ideal-gas work times the mean of the compressibility
 at its suction (T1, P_in) and at its isentropic discharge (T1
-(P_out/P_in)^((gamma - 1)/gamma), P_out), the isentropic head with an average
-compressibility of the compressor chapter of the *GPSA Engineering Data
-Book* (Gas Processors Suppliers Association, section 13; edition and
-equation number from memory).  The exponent keeps the ideal-gas gamma.
+(P_out/P_in)^((gamma - 1)/gamma), P_out): the head equations of the *GPSA
+Engineering Data Book* (Gas Processors Suppliers Association), section 13,
+Compressors, with Z_avg = (Z_suction + Z_discharge) / 2 (seen in secondary
+sources that cite that section; edition and equation numbers not seen).  The
+exponent keeps the ideal-gas gamma.
 """
 
 from __future__ import annotations
