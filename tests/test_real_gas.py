@@ -7,11 +7,12 @@ References (docs/references.md section 12):
   rounding;
 - CoolProp 8.0.0, reference equations of state: hydrogen, Leachman et al.,
   J. Phys. Chem. Ref. Data 38 (2009) 721; nitrogen, Span et al., J. Phys.
-  Chem. Ref. Data 29 (2000) 1361; the 3:1 H2/N2 mixture by CoolProp's
-  GERG-2008 mixing parameters (Kunz and Wagner, J. Chem. Eng. Data 57 (2012)
-  3032).  Peng-Robinson gives these gases a compressibility 1 to 4 % low at
-  300 K and 50 to 200 bar (measured; section 12 gives each value), so its
-  real-gas work falls short of the reference equation's by up to 3.3 %;
+  Chem. Ref. Data 29 (2000) 1361; the 3:1 H2/N2 mixture and an inert-rich
+  H2/N2/Ar/CH4 recycle gas by CoolProp's GERG-2008 mixing parameters (Kunz
+  and Wagner, J. Chem. Eng. Data 57 (2012) 3032).  Peng-Robinson gives these
+  gases a compressibility 1 to 5 % low at 300 K and 50 to 200 bar (measured;
+  section 12 gives each value), so its real-gas work falls short of the
+  reference equation's by up to 4 %;
 - the ideal-gas worked example (section 4; 46.71 kJ/mol from 1 atm and 20
   degC to 70 MPa at gamma 1.4): the real-gas work tends to it at low pressure.
 """
@@ -39,10 +40,13 @@ from purgeplan.physics.thermo import KELVIN, R_J_MOL_K
 #: CoolProp fluid names of the gases checked, with their mole fractions of H2 and N2.
 GASES = {"H2": ("Hydrogen", {"H2": 1.0, "N2": 0.0}),
          "N2": ("Nitrogen", {"H2": 0.0, "N2": 1.0}),
-         "H2/N2 3:1": ("Hydrogen[0.75]&Nitrogen[0.25]", {"H2": 0.75, "N2": 0.25})}
+         "H2/N2 3:1": ("Hydrogen[0.75]&Nitrogen[0.25]", {"H2": 0.75, "N2": 0.25}),
+         # an inert-rich recycle gas: the ammonia demo's at its optimum without its 2.5 % NH3
+         "recycle gas": ("Hydrogen[0.53]&Nitrogen[0.18]&Argon[0.07]&Methane[0.22]",
+                         {"H2": 0.53, "N2": 0.18, "Ar": 0.07, "CH4": 0.22})}
 #: Largest |Z_PR / Z_ref - 1| allowed at each pressure [bar]: the measured gap of
-#: Peng-Robinson to the reference equations (largest 1.46, 2.54, 3.37, 4.01 %) with a margin.
-Z_TOLERANCE = {50.0: 0.02, 100.0: 0.03, 150.0: 0.04, 200.0: 0.05}
+#: Peng-Robinson to the reference equations (largest 1.82, 3.12, 4.06, 4.74 %) with a margin.
+Z_TOLERANCE = {50.0: 0.025, 100.0: 0.035, 150.0: 0.045, 200.0: 0.055}
 
 
 AMMONIA_GAS = {"H2": 0.74, "N2": 0.25, "Ar": 0.01}
@@ -163,11 +167,11 @@ def test_mean_compressibility_work_is_the_reference_isentropic_rise(gas, p1, p2,
 @pytest.mark.parametrize("gas", list(GASES))
 @pytest.mark.parametrize(("p1", "p2", "stages"), DUTIES)
 def test_peng_robinson_work_against_the_reference_isentropic_rise(loop, gas, p1, p2, stages):
-    """Within 4 % of the reference (largest measured gap 3.28 %), and below it, as Z is."""
+    """Within 4.5 % of the reference (largest measured gap 3.97 %), and below it, as Z is."""
     fluid, fractions = GASES[gas]
     ours = _factor(_z(loop, fractions), fluid, 300.0, p1, p2, stages)
     reference = _reference_real_gas_factor(fluid, 300.0, p1, p2, stages)
-    assert ours == pytest.approx(reference, rel=0.04)
+    assert ours == pytest.approx(reference, rel=0.045)
     assert 1.0 < ours < reference
 
 
