@@ -18,8 +18,9 @@ P v / (R T) solves (eq. 5)
 
     Z^3 - (1 - B) Z^2 + (A - 3 B^2 - 2 B) Z - (A B - B^2 - B^3) = 0,
 
-and the gas takes the largest real root.  Critical constants, acentric
-factors and k_ij come from :func:`purgeplan.properties.peng_robinson_parameters`.
+and the gas takes the largest real root (equation numbers from memory).
+Critical constants, acentric factors and k_ij come from
+:func:`purgeplan.properties.peng_robinson_parameters`.
 """
 
 from __future__ import annotations
