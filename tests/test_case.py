@@ -60,12 +60,25 @@ def test_unknown_component_without_overrides_is_refused():
     assert "unknown component" in err.message and "molar_mass_kg_kmol" in err.message
 
 
+#: A component defined only by overrides has no critical constants: its gas is ideal.
+IDEAL_GAS = '\n[compression]\ngas_model = "ideal_gas"\n'
+
+
 def test_unknown_component_defined_by_overrides_builds():
     overrides = {"Ar": {"identifier": "unobtainium-42", "molar_mass_kg_kmol": 39.9,
                         "heat_capacity_j_mol_k": 20.8}}
     case = parse_case_text(case_toml(makeup=AMMONIA_GAS, liquid_fraction={"NH3": 0.9},
-                                     component_overrides=overrides))
+                                     component_overrides=overrides) + IDEAL_GAS)
     assert build_loop(case).data["Ar"].molar_mass_kg_kmol == 39.9
+
+
+def test_unknown_component_has_no_real_gas_compression():
+    overrides = {"Ar": {"identifier": "unobtainium-42", "molar_mass_kg_kmol": 39.9,
+                        "heat_capacity_j_mol_k": 20.8}}
+    err = refused_text(case_toml(makeup=AMMONIA_GAS, liquid_fraction={"NH3": 0.9},
+                                 component_overrides=overrides))
+    assert err.path == "compression.gas_model"
+    assert "'Ar'" in err.message and "ideal_gas" in err.message
 
 
 def test_component_without_heat_capacity_data_is_refused():
@@ -107,7 +120,8 @@ def test_formation_data_given_by_overrides_builds():
     nh3 = {**NH3_BY_OVERRIDES, "formation_enthalpy_kj_mol": -45.9,
            "standard_entropy_j_mol_k": 192.8}
     case = parse_case_text(case_toml(makeup=AMMONIA_GAS, liquid_fraction={"NH3": 0.9},
-                                     reaction=FORMATION, component_overrides={"NH3": nh3}))
+                                     reaction=FORMATION, component_overrides={"NH3": nh3})
+                           + IDEAL_GAS)
     assert build_loop(case).reactions[0].delta_h_298_j_mol == pytest.approx(-91.8e3)
 
 

@@ -880,6 +880,22 @@ def test_tiny_pressure_drop_is_handled(tmp_path, drop, expected):
         assert f"loop.pressure_drop_bar = {drop}:" in err, err
 
 
+@pytest.mark.parametrize("value, expected", [
+    ('"ideal_gas"', 0), ('"peng_robinson"', 0),
+    ('"Peng-Robinson"', 2), ('""', 2), ("1", 2), ("nan", 2), ('["ideal_gas"]', 2),
+])
+def test_gas_model_values_are_handled(tmp_path, value, expected):
+    """Only the two gas models are accepted; anything else is refused naming the key."""
+    line = 'gas_model = "peng_robinson"'
+    assert SEED_TEXT["hydrogenation"].count(line) == 1
+    text = SEED_TEXT["hydrogenation"].replace(line, f"gas_model = {value}")
+    status, _, err = check_case_file(
+        GeneratedCase("hydrogenation", text.encode(), [f"gas_model = {value}"]), tmp_path)
+    assert status == expected, err
+    if expected == 2:
+        assert "compression.gas_model" in err, err
+
+
 def test_subnormal_production_is_handled(tmp_path):
     """A subnormal production (ammonia demo, equilibrium reactor) is refused in one line,
     with no numerical warnings leaking to stderr (a real process)."""

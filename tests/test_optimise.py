@@ -106,7 +106,8 @@ def _small_case_text(**loop_extra):
     """A hand-checkable loop: fixed conversion, one inert, constant heat capacities.
 
     Constant, equal heat capacities make the recycle gas's heat-capacity ratio
-    independent of composition, so the global solver sees exactly the same model.
+    independent of composition, and an ideal gas its compressibility, so the
+    global solver sees exactly the same model.
     """
     extra = "".join(f"{k} = {v}\n" for k, v in loop_extra.items())
     return f"""
@@ -148,6 +149,9 @@ fuel_price_per_gj = 6.0
 compressor_capital = {{ reference_cost = 4.0e6, reference_size = 5000, exponent = 0.62 }}
 reactor_capital = {{ reference_cost = 5.0e6, reference_size = 40, exponent = 0.65 }}
 catalyst_price_per_m3 = 12000
+
+[compression]
+gas_model = "ideal_gas"
 """
 
 

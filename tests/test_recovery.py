@@ -11,6 +11,8 @@ References:
   26.35 / 2 = 13.175 kJ/mol (derived).
 - pumping: reversible work of an incompressible liquid, W = v dP (common
   practice; docs/references.md section 8).
+- the loop compresses an ideal gas, as the worked example does (real-gas
+  compression: tests/test_real_gas.py).
 - everything else by hand from the stated quantities and prices.
 """
 
@@ -80,6 +82,7 @@ temperature_c = 20
 makeup_stages = {stages}
 makeup_efficiency = 0.8
 recycle_inlet_temperature_c = 20
+gas_model = "ideal_gas"
 
 [purge]
 recovery = "unit"

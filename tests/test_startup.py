@@ -46,8 +46,10 @@ def cache_home(tmp_path, monkeypatch):
     home = tmp_path / "cache"
     monkeypatch.setenv("XDG_CACHE_HOME", str(home))
     properties._DiskCache.reset()
+    properties._EosCache.reset()
     yield home
     properties._DiskCache.reset()
+    properties._EosCache.reset()
 
 
 def _cache_file(home: Path) -> Path:
@@ -200,7 +202,7 @@ def test_a_cached_optimize_reads_no_property_tables(tmp_path):
            f" '--quiet']) == 0")
     modules = _modules_after(run, home)
     assert "purgeplan.solve" in modules          # it did optimise
-    assert not {"chemicals", "pandas"} & modules
+    assert not {"chemicals", "pandas", "thermo"} & modules
     # an empty cache does read them
     assert {"chemicals", "pandas"} <= _modules_after(run, tmp_path / "empty")
 
@@ -220,3 +222,46 @@ def test_records_written_meanwhile_by_another_process_are_kept(cache_home):
     path.write_text(json.dumps(doc), encoding="utf-8")
     lookup("CH4")                                       # this process adds its next one
     assert set(json.loads(path.read_text(encoding="utf-8"))["records"]) == {"H2", "N2", "CH4"}
+
+
+# ---------------------------------------------------------------------------
+# the cache of Peng-Robinson parameters
+
+#: The ammonia demo's components by CAS number: Ar, CH4, H2, N2, NH3.
+AMMONIA_CAS = ("7440-37-1", "74-82-8", "1333-74-0", "7727-37-9", "7664-41-7")
+
+
+def _eos_file(home: Path) -> Path:
+    files = list((home / "purgeplan").glob("peng-robinson-thermo-*.json"))
+    assert len(files) == 1, files
+    return files[0]
+
+
+def test_cached_and_fresh_peng_robinson_parameters_are_identical(cache_home):
+    fresh = properties.peng_robinson_parameters_uncached(AMMONIA_CAS)
+    first = properties.peng_robinson_parameters(AMMONIA_CAS)
+    path = _eos_file(cache_home)
+    properties._EosCache.reset()                         # as a new process would
+    assert properties.peng_robinson_parameters(AMMONIA_CAS) == first == fresh
+    assert list(json.loads(path.read_text(encoding="utf-8"))["records"]) == [
+        " ".join(AMMONIA_CAS)]
+    assert fresh[0][2] == 33.145                         # Tc of H2 in chemicals [K]
+
+
+@pytest.mark.parametrize("damage", ["garbage", "short_row", "wrong_type", "other_version"])
+def test_a_corrupt_peng_robinson_cache_is_ignored_and_rebuilt(cache_home, damage):
+    good = properties.peng_robinson_parameters(AMMONIA_CAS)
+    path = _eos_file(cache_home)
+    doc = json.loads(path.read_text(encoding="utf-8"))
+    record = doc["records"][" ".join(AMMONIA_CAS)]
+    if damage == "short_row":
+        record[0] = record[0][:-1]
+    elif damage == "wrong_type":
+        record[3][0][1] = "0.0152"
+    elif damage == "other_version":
+        doc["thermo"] = "0.0.1"
+        record[0] = [2.0 * t for t in record[0]]
+    text = "not json" if damage == "garbage" else json.dumps(doc)
+    path.write_text(text, encoding="utf-8")
+    properties._EosCache.reset()
+    assert properties.peng_robinson_parameters(AMMONIA_CAS) == good

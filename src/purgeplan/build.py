@@ -14,11 +14,18 @@ import dataclasses
 from collections.abc import Mapping
 
 from .case import CapitalItem, Case, stoichiometric_ratio
-from .case_checks import component_data, condensate_vapour_ratio, formation_terms, letdown_release
-from .coefficients import equilibrium_rhs, mixture_heat_capacity_ratio
+from .case_checks import (
+    component_data,
+    condensate_vapour_ratio,
+    formation_terms,
+    letdown_release,
+    peng_robinson_data,
+)
+from .coefficients import equilibrium_rhs, gas_compressibility, mixture_heat_capacity_ratio
 from .loop import KELVIN, Capital, InletRatio, Loop, Prices, Reaction, Source
 from .physics import compression, economics
 from .physics.equilibrium import ATM_BAR
+from .physics.real_gas import PengRobinsonData
 from .physics.thermo import R_J_MOL_K
 from .properties import ComponentData
 
@@ -65,11 +72,13 @@ def reactor_pressure_factor(case: Case) -> float:
             / factor(r.capital_reference_pressure_bar - ATM_BAR, r.vessel_diameter_m))
 
 
-def _source(case: Case, name: str, data: Mapping[str, ComponentData]) -> Source:
+def _source(case: Case, name: str, data: Mapping[str, ComponentData],
+            real_gas: PengRobinsonData | None) -> Source:
     """One source with its work per kmol from supply to loop pressure.
 
     Gas is compressed in the make-up compressor's stages (make-up gas and
-    direct feeds alike), a liquid is pumped (reversible work v dP).
+    direct feeds alike), as a real gas where ``real_gas`` gives its
+    equation of state; a liquid is pumped (reversible work v dP).
     """
     s = case.sources[name]
     loop_p = case.loop.pressure_bar
@@ -78,7 +87,8 @@ def _source(case: Case, name: str, data: Mapping[str, ComponentData]) -> Source:
     if loop_p > s.supply_pressure_bar and s.phase == "gas":
         gamma = mixture_heat_capacity_ratio(s.composition, data, t)
         work = compression.isentropic_work_kj_kmol(
-            t, loop_p / s.supply_pressure_bar, gamma, case.compression.makeup_stages)
+            t, loop_p / s.supply_pressure_bar, gamma, case.compression.makeup_stages,
+            s.supply_pressure_bar, gas_compressibility(real_gas, s.composition))
     elif loop_p > s.supply_pressure_bar:
         mw = sum(y * data[c].molar_mass_kg_kmol for c, y in s.composition.items())
         work = compression.pump_work_kj_kmol(mw, s.liquid_density_kg_m3,
@@ -87,8 +97,8 @@ def _source(case: Case, name: str, data: Mapping[str, ComponentData]) -> Source:
                   s.supply_limit_kmol_h, s.enters, work, s.temperature_c, s.phase)
 
 
-def _recompression(case: Case, sources: list[Source], data: Mapping[str, ComponentData]
-                   ) -> tuple[str, float]:
+def _recompression(case: Case, sources: list[Source], data: Mapping[str, ComponentData],
+                   real_gas: PengRobinsonData | None) -> tuple[str, float]:
     """How the recovery return is recompressed to loop pressure, and its work [kJ/kmol].
 
     The work is isentropic, with the heat-capacity ratio of the gas the unit
@@ -99,7 +109,8 @@ def _recompression(case: Case, sources: list[Source], data: Mapping[str, Compone
     compressor, the return joins at the stage whose suction suits it (stage
     inlets at the temperature of the make-up gas); through a compressor of
     its own, in ``recompression_stages`` intercooled stages from the recycle
-    compressor's inlet temperature.  ("none", 0) without a return pressure.
+    compressor's inlet temperature.  A real gas (``real_gas`` given) at the
+    compressibility of that composition.  ("none", 0) without a return pressure.
     """
     rec = case.purge.recovery
     if rec == "none" or case.recovery_units[rec].return_pressure_bar is None:
@@ -112,18 +123,19 @@ def _recompression(case: Case, sources: list[Source], data: Mapping[str, Compone
     if sum(gas.values()) <= 0.0:
         gas = mean
     gas = {c: y for c, y in gas.items() if y > 0.0}
+    z = gas_compressibility(real_gas, gas)
     if unit.recompression == "makeup_compressor":
         first = min(makeup, key=lambda s: case.sources[s.name].supply_pressure_bar)
         t = first.temperature_c + KELVIN
         gamma = mixture_heat_capacity_ratio(gas, data, t)
         work = compression.side_stream_work_kj_kmol(
             t, case.sources[first.name].supply_pressure_bar, loop_p,
-            case.compression.makeup_stages, p_ret, gamma)
+            case.compression.makeup_stages, p_ret, gamma, z)
     else:
         t = case.compression.recycle_inlet_temperature_c + KELVIN
         gamma = mixture_heat_capacity_ratio(gas, data, t)
         work = compression.isentropic_work_kj_kmol(t, loop_p / p_ret, gamma,
-                                                   unit.recompression_stages)
+                                                   unit.recompression_stages, p_ret, z)
     return unit.recompression, work
 
 
@@ -157,7 +169,8 @@ def build_loop(case: Case, name: str = "") -> Loop:
     loop_p = case.loop.pressure_bar
     comp_spec = case.compression
 
-    sources = [_source(case, sname, data) for sname in case.active_sources]
+    real_gas = peng_robinson_data(case, data)
+    sources = [_source(case, sname, data, real_gas) for sname in case.active_sources]
 
     split = case.separator.liquid_fraction
     condensing, ratio = condensate_vapour_ratio(case, data)
@@ -172,7 +185,7 @@ def build_loop(case: Case, name: str = "") -> Loop:
         recovery = {c: unit.return_fraction.get(c, 0.0) for c in comps}
         recovery_capital = _capital(unit.capital)
         recovery_opex = unit.operating_cost_per_kmol
-    recompression, recompression_work = _recompression(case, sources, data)
+    recompression, recompression_work = _recompression(case, sources, data, real_gas)
     export = ({c: unit.export_fraction.get(c, 0.0) for c in comps}
               if unit is not None and any(x > 0 for x in unit.export_fraction.values()) else None)
     release = letdown_release(case, data)
@@ -240,4 +253,5 @@ def build_loop(case: Case, name: str = "") -> Loop:
         letdown_pressure_bar=case.separator.letdown_pressure_bar,
         letdown_destination=case.separator.letdown_destination,
         ratios=tuple(_ratio(case, r) for r in case.loop.inlet_ratio_limits),
-        gas_inventory_kmol=_inventory_kmol(case), pump_efficiency=comp_spec.pump_efficiency)
+        gas_inventory_kmol=_inventory_kmol(case), pump_efficiency=comp_spec.pump_efficiency,
+        peng_robinson=real_gas)

@@ -191,6 +191,7 @@ class CompressionSpec(_Strict):
     recycle_inlet_temperature_c: TemperatureC = 35.0
     pump_efficiency: OpenFraction = 0.65
     arrangement: Literal["two_machines", "one_casing"] = "two_machines"
+    gas_model: Literal["peng_robinson", "ideal_gas"] = "peng_robinson"
 
 
 class CapitalItem(_Strict):

@@ -20,8 +20,9 @@ from typing import TYPE_CHECKING, Any
 
 from .errors import CaseError
 from .physics import equilibrium, separation, thermo
+from .physics.real_gas import PengRobinsonData
 from .physics.thermo import KELVIN
-from .properties import ComponentData, lookup
+from .properties import ComponentData, lookup, peng_robinson_parameters
 
 if TYPE_CHECKING:
     from .case import Case, ComponentSpec, ReactionSpec
@@ -48,6 +49,7 @@ def check_property_data(case: Case) -> None:
         _check_fugacity(path, spec, t_reactor, case.loop.pressure_bar)
     condensate_vapour_ratio(case, data)
     letdown_release(case, data)
+    peng_robinson_data(case, data)
 
 
 # ---------------------------------------------------------------------------
@@ -252,3 +254,29 @@ def letdown_release(case: Case, data: Mapping[str, ComponentData]) -> dict[str, 
     released = separation.dissolved_gas_released_fraction(p_ld, low)
     return {c: (0.0 if c == product or _stays_liquid(data[c], t_sep, p_ld) else released)
             for c in case.components}
+
+
+# ---------------------------------------------------------------------------
+# the gas model of the compressors
+
+
+def peng_robinson_data(case: Case, data: Mapping[str, ComponentData]
+                       ) -> PengRobinsonData | None:
+    """Peng-Robinson parameters of the case's components; None for an ideal gas.
+
+    Every component needs critical constants and an acentric factor, so one
+    defined only by its overrides (no CAS number) cannot be compressed as a
+    real gas.
+    """
+    if case.compression.gas_model != "peng_robinson":
+        return None
+    names = tuple(sorted(data))
+    try:
+        tc, pc, omega, kij = peng_robinson_parameters(tuple(data[c].cas for c in names))
+    except LookupError as exc:
+        name = next(c for c in names if data[c].cas == exc.args[0])
+        raise CaseError("compression.gas_model",
+                        f"no critical constants for component '{name}', which the "
+                        "Peng-Robinson equation needs: give it an identifier the property "
+                        "library knows, or set gas_model = \"ideal_gas\"") from None
+    return PengRobinsonData(names, tc, pc, omega, kij)

@@ -1,7 +1,8 @@
 """Coefficients of the loop equations that depend on the state: physics at the current flows.
 
 The balances of :mod:`purgeplan.equations` are linear once these are fixed:
-the recycle compressor's work per kmol (from the gas's heat-capacity ratio),
+the recycle compressor's work per kmol (from the gas's heat-capacity ratio
+and, for a real gas, its compressibility),
 the catalyst volume per kmol/h of reactor feed, and the equilibrium
 conversion of each reaction at the reactor inlet composition.  The inner
 fixed point (:mod:`purgeplan.fixed_point`) converges them.
@@ -11,12 +12,14 @@ from __future__ import annotations
 
 import math
 from collections.abc import Mapping
+from functools import partial
 
 import numpy as np
 
 from .loop import Loop, Reaction
-from .physics import compression, kinetics, reactor, thermo
+from .physics import compression, kinetics, reactor, real_gas, thermo
 from .physics import equilibrium as eq
+from .physics.real_gas import PengRobinsonData
 from .properties import ComponentData
 
 
@@ -29,12 +32,30 @@ def mixture_heat_capacity_ratio(composition: Mapping[str, float],
     return thermo.heat_capacity_ratio(cp)
 
 
+def gas_compressibility(data: PengRobinsonData | None, composition: Mapping[str, float]
+                        ) -> compression.Compressibility | None:
+    """Z(T [K], P [bar]) of a gas of this composition by the Peng-Robinson equation.
+
+    None where ``data`` is None: the gas is taken as ideal.
+    """
+    if data is None:
+        return None
+    y = [max(composition.get(c, 0.0), 0.0) for c in data.components]
+    return partial(real_gas.peng_robinson_compressibility, data, y)
+
+
 def recycle_work_kj_kmol(loop: Loop, recycle_composition: Mapping[str, float]) -> float:
-    """Isentropic work per kmol of recycle gas over the loop pressure drop [kJ/kmol]."""
+    """Isentropic work per kmol of recycle gas over the loop pressure drop [kJ/kmol].
+
+    A real gas's work is the ideal gas's times its mean compressibility at
+    suction and discharge (:func:`purgeplan.physics.compression.isentropic_work_kj_kmol`).
+    """
     gamma = mixture_heat_capacity_ratio(recycle_composition, loop.data,
                                         loop.recycle_inlet_temperature_k)
-    ratio = loop.pressure_bar / (loop.pressure_bar - loop.pressure_drop_bar)
-    return compression.isentropic_work_kj_kmol(loop.recycle_inlet_temperature_k, ratio, gamma, 1)
+    suction = loop.pressure_bar - loop.pressure_drop_bar
+    return compression.isentropic_work_kj_kmol(
+        loop.recycle_inlet_temperature_k, loop.pressure_bar / suction, gamma, 1, suction,
+        gas_compressibility(loop.peng_robinson, recycle_composition))
 
 
 def catalyst_volume_per_feed_m3_h_kmol(loop: Loop, conversion: Mapping[int, float],

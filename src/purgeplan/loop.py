@@ -20,6 +20,7 @@ from __future__ import annotations
 
 from dataclasses import dataclass, field
 
+from .physics.real_gas import PengRobinsonData
 from .physics.thermo import KELVIN
 from .properties import ComponentData
 
@@ -186,6 +187,7 @@ class Loop:
     ratios: tuple[InletRatio, ...] = ()
     gas_inventory_kmol: float | None = None
     pump_efficiency: float = 0.65
+    peng_robinson: PengRobinsonData | None = None   # None: the compressors' gas is ideal
 
     @property
     def ratio_limits(self) -> tuple[InletRatio, ...]:

@@ -14,7 +14,9 @@ the platform's user cache folder).  An identifier missing from the file is
 looked up in ``chemicals`` and added; a file that cannot be read, or that was
 written for another version or format, is ignored and rewritten; a cache
 folder that cannot be written only costs the lookup.  Identifiers that
-``chemicals`` does not know are never cached.
+``chemicals`` does not know are never cached.  The Peng-Robinson parameters of
+a set of components (:func:`peng_robinson_parameters`, from ``thermo``) are
+kept the same way, in ``purgeplan/peng-robinson-thermo-VERSION.json``.
 """
 
 from __future__ import annotations
@@ -162,11 +164,11 @@ def cache_folder() -> Path:
     return Path(base) / "purgeplan"
 
 
-def _chemicals_version() -> str | None:
+def _library_version(name: str) -> str | None:
     from importlib.metadata import PackageNotFoundError, version
 
     try:
-        return version("chemicals")
+        return version(name)
     except PackageNotFoundError:
         return None
 
@@ -200,10 +202,14 @@ class _DiskCache:
     """The cache file of the installed ``chemicals`` version, read once per process."""
 
     _instance: _DiskCache | None = None
+    #: The library the records come from, and the file name before its version.
+    LIBRARY = "chemicals"
+    PREFIX = "properties-chemicals"
+    decode = staticmethod(_decode)
 
     def __init__(self, folder: Path, version: str | None):
         self.version = version
-        self.path = None if version is None else folder / f"properties-chemicals-{version}.json"
+        self.path = None if version is None else folder / f"{self.PREFIX}-{version}.json"
         self.records: dict[str, tuple] = {}
         if self.path is not None:
             self.records = self._read()
@@ -211,7 +217,7 @@ class _DiskCache:
     @classmethod
     def instance(cls) -> _DiskCache:
         if cls._instance is None:
-            cls._instance = cls(cache_folder(), _chemicals_version())
+            cls._instance = cls(cache_folder(), _library_version(cls.LIBRARY))
         return cls._instance
 
     @classmethod
@@ -224,10 +230,10 @@ class _DiskCache:
         try:
             with open(self.path, encoding="utf-8") as f:
                 doc = json.load(f)
-            if (doc.get("format") != CACHE_FORMAT or doc.get("chemicals") != self.version
+            if (doc.get("format") != CACHE_FORMAT or doc.get(self.LIBRARY) != self.version
                     or not isinstance(doc.get("records"), dict)):
                 return {}
-            return {str(k): _decode(v) for k, v in doc["records"].items()}
+            return {str(k): self.decode(v) for k, v in doc["records"].items()}
         except (OSError, ValueError, TypeError, AttributeError):
             return {}  # absent, unreadable, corrupt or foreign: rebuilt on the next put
 
@@ -239,7 +245,7 @@ class _DiskCache:
             return
         # keep what other processes (a study's workers, another case) added meanwhile
         self.records = {**self._read(), **self.records, identifier: record}
-        doc = {"format": CACHE_FORMAT, "chemicals": self.version, "records": self.records}
+        doc = {"format": CACHE_FORMAT, self.LIBRARY: self.version, "records": self.records}
         import tempfile
 
         tmp = None
@@ -259,3 +265,70 @@ class _DiskCache:
                     os.unlink(tmp)
                 except OSError:
                     pass
+
+
+# ---------------------------------------------------------------------------
+# Peng-Robinson parameters from the ``thermo`` library
+
+
+@lru_cache(maxsize=64)
+def peng_robinson_parameters(cas_numbers: tuple[str, ...]) -> tuple:
+    """Critical constants, acentric factors and k_ij of a set of components.
+
+    Returns (Tc [K], Pc [Pa], omega [-], k_ij [-]) in the order given, from
+    the per-user cache when it holds the set for the installed ``thermo``
+    version.  Tc, Pc and omega are the values the ``chemicals`` library
+    returns by default (its critical-constant and acentric-factor tables); k_ij are the
+    Peng-Robinson parameters of the ChemSep database that ``thermo`` carries,
+    zero for a pair it has none for (common practice).  Raises LookupError
+    naming the first CAS number without critical constants.
+    """
+    cache = _EosCache.instance()
+    key = " ".join(cas_numbers)
+    record = cache.get(key)
+    if record is None:
+        record = peng_robinson_parameters_uncached(cas_numbers)
+        cache.put(key, record)
+    return record
+
+
+def peng_robinson_parameters_uncached(cas_numbers: tuple[str, ...]) -> tuple:
+    """:func:`peng_robinson_parameters` straight from ``thermo``, bypassing every cache."""
+    from chemicals import Pc, Tc, omega
+    from thermo.interaction_parameters import IPDB
+
+    constants = []
+    for cas in cas_numbers:
+        values = (Tc(cas), Pc(cas), omega(cas)) if cas else (None,)
+        if any(v is None or not math.isfinite(v) for v in values):
+            raise LookupError(cas)
+        constants.append(tuple(float(v) for v in values))
+    kij = IPDB.get_ip_symmetric_matrix("ChemSep PR", list(cas_numbers), "kij")
+    tc, pc, om = (tuple(c[k] for c in constants) for k in range(3))
+    return tc, pc, om, tuple(tuple(float(k) for k in row) for row in kij)
+
+
+def _decode_eos(raw: object) -> tuple:
+    """A Peng-Robinson record read back from JSON, as :func:`peng_robinson_parameters_uncached`
+    returns it; ValueError (or TypeError) for anything else."""
+    tc, pc, om, kij = raw
+    rows = (tc, pc, om, *kij)
+    if len(kij) != len(tc) or any(len(r) != len(tc) for r in rows):
+        raise ValueError("lengths")
+    if not all(isinstance(x, float) for r in rows for x in r):
+        raise ValueError("numbers")
+    return tuple(tc), tuple(pc), tuple(om), tuple(tuple(r) for r in kij)
+
+
+class _EosCache(_DiskCache):
+    """The cache file of Peng-Robinson parameters of the installed ``thermo`` version."""
+
+    _instance: _EosCache | None = None
+    LIBRARY = "thermo"
+    PREFIX = "peng-robinson-thermo"
+    decode = staticmethod(_decode_eos)
+
+    @classmethod
+    def reset(cls) -> None:
+        cls._instance = None
+        peng_robinson_parameters.cache_clear()
