@@ -27,6 +27,7 @@ from hypothesis import strategies as st
 import purgeplan
 from purgeplan.case import expand_alternatives, parse_case_text
 from purgeplan.cli import main
+from purgeplan.errors import CaseError
 from purgeplan.physics.economics import capital_recovery_factor
 from purgeplan.physics.refrigeration import carnot_cop
 
@@ -285,7 +286,7 @@ def test_duties_close_and_stay_physical(water_c, water_k, evaporator_k, condense
         f"carnot_fraction = {fraction!r}")
     try:
         loop, s = state_of(text)
-    except purgeplan.errors.CaseError as exc:
+    except CaseError as exc:
         assert exc.path.startswith("separator.cooling."), exc
         return
     q = s.quantities
@@ -371,7 +372,7 @@ def test_json_carries_the_cooling_quantities(tmp_path):
     ("water_price_per_gj = 0.4", "", "separator.cooling.water_price_per_gj"),
     ("water_temperature_c = 25", "water_temperature_c = 25\nwater_approach_k = -1",
      "separator.cooling.water_approach_k"),
-    ("water_temperature_c = 25", "water_temperature_c = -20\nwater_approach_k = 20\n"
+    ("water_temperature_c = 25", "water_temperature_c = 1\nwater_approach_k = 20\n"
      "condenser_approach_k = 0\nevaporator_approach_k = 0",
      "separator.cooling.condenser_approach_k"),
     ("water_temperature_c = 25", "water_temperature_c = 25\nevaporator_approach_k = 250",
@@ -387,6 +388,10 @@ def test_json_carries_the_cooling_quantities(tmp_path):
 ])
 def test_bad_cooling_keys_are_refused_in_one_line(tmp_path, capsys, old, new, field):
     text = CASE.replace(old, new, 1)
+    if field == "separator.cooling.condenser_approach_k":
+        # a separator at 10 degC, refrigerated below the water cooler's 21 degC, with its
+        # refrigerant condensing at the water's 1 degC
+        text = text.replace("[separator]\ntemperature_c = -5", "[separator]\ntemperature_c = 10")
     if new == "temperature_c = -80":
         text = text.replace("water_price_per_gj = 0.4", "water_price_per_gj = 0.4\n"
                             "evaporator_approach_k = 200")

@@ -738,7 +738,7 @@ def cooling_temperatures_k(case: Case) -> tuple[float, float, float]:
 
 
 def _check_cooling(case: Case) -> None:
-    """The separator's cooling: a price for the water, a refrigeration cycle that can run."""
+    """The separator's cooling: a reactor outlet to cool, a refrigeration cycle that can run."""
     c = case.separator.cooling
     if c is None:
         return

@@ -382,15 +382,15 @@ def _cooling_quantities(v: LoopVariables, loop: Loop, condenses=None) -> dict:
     """
     if loop.cooling is None:
         return {}
+    k = loop.cooling
     total = separator_cooling_duty_kw(v, loop)
     water = water_cooler_duty_kw(v, loop, condenses)
-    refrigerated = total - water if loop.cooling.refrigerated else 0.0
-    power = (refrigerated * (1.0 / loop.cooling.coefficient_of_performance)
-             if loop.cooling.refrigerated else 0.0)
+    cold = total - water if k.refrigerated else 0.0
+    power = cold * (1.0 / k.coefficient_of_performance) if k.refrigerated else 0.0
     return {"separator_cooling_duty_kw": total, "water_cooler_duty_kw": water,
             "water_cooler_condensate_kmol_h": water_cooler_condensate_kmol_h(v, loop, condenses),
-            "refrigeration_duty_kw": refrigerated, "refrigeration_power_kw": power,
-            "cooling_water_duty_gj_h": (water + refrigerated + power) * 0.0036}
+            "refrigeration_duty_kw": cold, "refrigeration_power_kw": power,
+            "cooling_water_duty_gj_h": (water + cold + power) * (3600.0 / 1e6)}
 
 
 def _unit_quantities(v: LoopVariables, loop: Loop) -> dict:
