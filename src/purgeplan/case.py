@@ -209,7 +209,7 @@ class SeparatorCoolingSpec(_Strict):
     water_approach_k: ApproachK = 5.0
     evaporator_approach_k: ApproachK = 5.0
     condenser_approach_k: ApproachK = 10.0
-    carnot_fraction: UpToOne | None = None
+    carnot_fraction: _num(ge=0.05, le=1) | None = None
     coefficient_of_performance: _num(ge=0.01, le=1000) | None = None
     refrigeration_capital: CapitalItem | None = None
 
