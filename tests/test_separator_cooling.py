@@ -141,7 +141,8 @@ def test_water_cooler_duty_and_its_condensate_from_coolprop():
     condensed = outlet["NH3"] - psat_bar / (142.0 - psat_bar) * others
     assert condensed > 0.0                       # not vacuous: it condenses in the water cooler
     q = s.quantities
-    # vapour pressure: the Wagner equation 0.2 % below CoolProp's at 30 degC
+    # measured: condensate 3.4e-4 below, duty 6.5e-4 above (the Wagner vapour pressure is
+    # 2.8e-4 above CoolProp's at 30 degC; ammonia's ideal-gas Cp as in the test above)
     assert q["water_cooler_condensate_kmol_h"] == pytest.approx(condensed, rel=2e-3)
     sensible = sum(f * (ideal_gas_h(c, t_r) - ideal_gas_h(c, t_w)) for c, f in outlet.items())
     expected = (sensible + condensed * ammonia_hvap(t_w)) / 3600.0
@@ -162,7 +163,7 @@ def test_above_its_dew_point_nothing_condenses_in_the_water_cooler():
     assert q["water_cooler_condensate_kmol_h"] == 0.0
     t_r, t_w = loop.reactor_temperature_k, 328.15
     sensible = sum(f * (ideal_gas_h(c, t_r) - ideal_gas_h(c, t_w)) for c, f in outlet.items())
-    assert q["water_cooler_duty_kw"] == pytest.approx(sensible / 3600.0, rel=2e-3)
+    assert q["water_cooler_duty_kw"] == pytest.approx(sensible / 3600.0, rel=2e-3)  # 8.1e-4
 
 
 # ---------------------------------------------------------------------------
