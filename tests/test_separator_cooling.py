@@ -20,6 +20,7 @@ from __future__ import annotations
 import json
 import math
 
+import CoolProp.CoolProp as CP
 import pytest
 from hypothesis import given, settings
 from hypothesis import strategies as st
@@ -30,8 +31,6 @@ from purgeplan.cli import main
 from purgeplan.errors import CaseError
 from purgeplan.physics.economics import capital_recovery_factor
 from purgeplan.physics.refrigeration import carnot_cop
-
-CP = pytest.importorskip("CoolProp.CoolProp")
 
 COOLPROP_NAMES = {"H2": "Hydrogen", "N2": "Nitrogen", "Ar": "Argon", "CH4": "Methane",
                   "NH3": "Ammonia"}
