@@ -867,6 +867,36 @@ def test_degenerate_capital_recovery_is_handled(tmp_path, old, new, expected):
         assert f"economics.{new.split()[0]}" in err, err
 
 
+@pytest.mark.parametrize("old, new, expected, field", [
+    # the separator's cooling at and past the edges of what is accepted
+    ("water_approach_k = 8", "water_approach_k = 0", 0, ""),
+    ("water_approach_k = 8", "water_approach_k = 1e-300", 0, ""),
+    ("water_approach_k = 8", "water_approach_k = 1e300", 2, "separator.cooling.water_approach_k"),
+    ("carnot_fraction = 0.55", "carnot_fraction = 5e-324", 2, "separator.cooling.carnot_fraction"),
+    ("carnot_fraction = 0.55", "carnot_fraction = 1", 0, ""),
+    ("carnot_fraction = 0.55", "coefficient_of_performance = 1e-300", 2,
+     "separator.cooling.coefficient_of_performance"),
+    ("condenser_approach_k = 10", "condenser_approach_k = nan", 2,
+     "separator.cooling.condenser_approach_k"),
+    ("water_temperature_c = 30", "water_temperature_c = -273.15", 2,
+     "separator.cooling.water_temperature_c"),
+    ("water_temperature_c = 30", "water_temperature_c = 100", 2,
+     "separator.cooling.water_temperature_c"),
+    ("water_temperature_c = 30", "water_temperature_c = 99.9", 0, ""),
+    ("water_price_per_gj = 0.40", "water_price_per_gj = inf", 2,
+     "separator.cooling.water_price_per_gj"),
+])
+def test_separator_cooling_edges_are_handled(tmp_path, old, new, expected, field):
+    """The demo's separator cooling at extreme values: accepted, or refused in one line
+    naming the key."""
+    assert SEED_TEXT["ammonia"].count(old) == 1
+    text = SEED_TEXT["ammonia"].replace(old, new)
+    status, _, err = check_case_file(GeneratedCase("ammonia", text.encode(), [new]), tmp_path)
+    assert status == expected, err
+    if expected == 2:
+        assert field in err, err
+
+
 @pytest.mark.parametrize("drop, expected", [("1e-15", 2), ("1e-300", 2), ("0.001", 0)])
 def test_tiny_pressure_drop_is_handled(tmp_path, drop, expected):
     """A drop so small that the pressure ratio is 1.0 is refused; the smallest allowed works."""

@@ -172,7 +172,11 @@ def test_global_solver_finds_the_same_optimum():
 
 def test_global_solver_agrees_with_a_fuel_sink_of_limited_capacity():
     """The demo's standard grade (its fuel header takes 45 GJ/h, the rest is flared) at a
-    fixed per-pass conversion: SCIP with the purge fraction free finds the same optimum."""
+    fixed per-pass conversion: SCIP with the purge fraction free finds the same optimum.
+
+    SCIP is asked for a gap of 2e-6: with the refrigeration unit's capital, one more
+    concave term, its lower bound stalls at a gap of 1.1e-6 for over a minute, while its
+    solution agrees with the reduced space to 3e-10 (measured)."""
     pytest.importorskip("pyscipopt")
     raw = tomllib.loads((CASES / "ammonia_demo.toml").read_text())
     for key in ("options", "alternatives", "exclude"):
@@ -184,7 +188,8 @@ def test_global_solver_agrees_with_a_fuel_sink_of_limited_capacity():
         reaction.pop(key)
     loop = build_loop(validate_case_dict(raw), "fuel sink")
     assert loop.fuel_capacity_gj_h == 45.0
-    a, tac, results, opt = solve_exact_with(loop, "scip_direct", **{"limits/gap": 1e-6})
+    assert loop.prices.refrigeration_capital is not None
+    a, tac, results, opt = solve_exact_with(loop, "scip_direct", **{"limits/gap": 2e-6})
     assert "optimal" in str(results.solver.termination_condition)
     assert tac == pytest.approx(opt.state.tac_per_year, rel=1e-6)
     assert a == pytest.approx(opt.state.purge_fraction, rel=1e-3)
@@ -299,6 +304,11 @@ def test_more_inert_in_makeup_never_lowers_the_purge(factor):
     # with the fuel header full (the demo's standard-grade purge carries about its
     # capacity) the purge is set by the header: a richer gas fills it at a smaller purge
     raw["purge"].pop("fuel_capacity_gj_h")
+    # with the separator's cooling the property does not hold: where the reactor outlet's
+    # dew point lies above the water cooler's outlet, a larger purge also moves condensing
+    # from refrigeration to cooling water, and more inert can take the loop out of that
+    # range (at 1.5 times the inert the optimum purge falls from 0.0124 to 0.0118)
+    raw["separator"].pop("cooling")
     base = build_loop(validate_case_dict(raw), "base")
     comp = raw["sources"]["standard"]["composition"]
     inert = comp["Ar"] + comp["CH4"]

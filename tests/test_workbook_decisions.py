@@ -327,7 +327,7 @@ choices = { makeup_grade = "purified", purge_destination = "fuel", recovery = "n
     done = subprocess.run([sys.executable, "-m", "purgeplan", "study", str(case), "-o",
                            str(tmp_path / "s.xlsx"), "--json", str(target), "--quiet"],
                           capture_output=True, text=True, timeout=600, check=False,
-                          env={**os.environ, "COLUMNS": "400"})
+                          env={**os.environ, "COLUMNS": "2000"})
     assert done.returncode == 0, done.stdout + done.stderr
     doc = json.loads(target.read_text(encoding="utf-8"))
     decision = doc["decision"]

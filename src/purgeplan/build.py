@@ -13,17 +13,18 @@ from __future__ import annotations
 import dataclasses
 from collections.abc import Mapping
 
-from .case import CapitalItem, Case, stoichiometric_ratio
+from .case import CARNOT_FRACTION, CapitalItem, Case, cooling_temperatures_k, stoichiometric_ratio
 from .case_checks import (
     component_data,
     condensate_vapour_ratio,
     formation_terms,
+    latent_heats_kj_kmol,
     letdown_release,
     peng_robinson_data,
 )
 from .coefficients import equilibrium_rhs, gas_compressibility, mixture_heat_capacity_ratio
-from .loop import KELVIN, Capital, InletRatio, Loop, Prices, Reaction, Source
-from .physics import compression, economics
+from .loop import KELVIN, Capital, Cooling, InletRatio, Loop, Prices, Reaction, Source
+from .physics import compression, economics, refrigeration, separation, thermo
 from .physics.equilibrium import ATM_BAR
 from .physics.real_gas import PengRobinsonData
 from .physics.thermo import R_J_MOL_K
@@ -156,6 +157,60 @@ def _inventory_kmol(case: Case) -> float | None:
     return loop.pressure_bar * 1e5 * loop.gas_inventory_m3 / (R_J_MOL_K * t) / 1000.0
 
 
+def _enthalpy_drops_kj_kmol(data: Mapping[str, ComponentData], t_hot_k: float,
+                            t_cold_k: float) -> dict[str, float]:
+    """Ideal-gas h(t_hot) - h(t_cold) of each component [kJ/kmol] (the Poling Cp polynomial)."""
+    return {c: thermo.cp_enthalpy_integral_j_mol(d.cp_coefficients, t_cold_k, t_hot_k)
+            for c, d in sorted(data.items())}
+
+
+def _water_vapour_ratio(case: Case, d: ComponentData, temperature_k: float) -> float | None:
+    """The condensing product's moles per mole of other vapour at the water cooler's outlet.
+
+    Raoult's law at separator pressure, as in the separator
+    (:func:`purgeplan.physics.separation.condensate_vapour_ratio`); None at or
+    above its critical temperature or vapour pressure, where nothing condenses.
+    """
+    p = case.loop.pressure_bar - case.loop.pressure_drop_bar
+    if temperature_k >= d.vapour_pressure_coefficients[1]:
+        return None
+    psat = d.vapour_pressure_bar(temperature_k)
+    return separation.condensate_vapour_ratio(psat, p) if psat < p else None
+
+
+def _cooling(case: Case, data: Mapping[str, ComponentData], condensing: str | None
+             ) -> Cooling | None:
+    """The separator's cooling duties per kmol and its refrigeration performance.
+
+    None without ``separator.cooling``.  The coefficient of performance is the
+    case's, or its fraction of Carnot's (0.55 unless given, common practice)
+    between the evaporator and condenser temperatures of
+    :func:`purgeplan.case.cooling_temperatures_k`.
+    """
+    spec = case.separator.cooling
+    if spec is None:
+        return None
+    t_reactor = case.reactor.temperature_c + KELVIN
+    t_sep = case.separator.temperature_c + KELVIN
+    t_water, t_evap, t_cond = cooling_temperatures_k(case)
+    refrigerated = t_water > t_sep
+    cop = spec.coefficient_of_performance
+    if cop is None:
+        fraction = spec.carnot_fraction if spec.carnot_fraction is not None else CARNOT_FRACTION
+        cop = fraction * refrigeration.carnot_cop(t_evap, t_cond) if refrigerated else 0.0
+    ratio, latent_water = None, 0.0
+    if refrigerated and condensing is not None:
+        ratio = _water_vapour_ratio(case, data[condensing], t_water)
+        latent_water = latent_heats_kj_kmol(case, data, t_water)[condensing]
+    return Cooling(
+        water_outlet_temperature_k=t_water,
+        sensible_kj_kmol=_enthalpy_drops_kj_kmol(data, t_reactor, t_sep),
+        latent_kj_kmol=latent_heats_kj_kmol(case, data, t_sep),
+        water_sensible_kj_kmol=_enthalpy_drops_kj_kmol(data, t_reactor, t_water),
+        water_latent_kj_kmol=latent_water, water_vapour_ratio=ratio,
+        refrigerated=refrigerated, coefficient_of_performance=cop)
+
+
 def build_loop(case: Case, name: str = "") -> Loop:
     """Plain loop data from a validated case (one alternative)."""
     data = component_data(case)
@@ -190,7 +245,7 @@ def build_loop(case: Case, name: str = "") -> Loop:
               if unit is not None and any(x > 0 for x in unit.export_fraction.values()) else None)
     release = letdown_release(case, data)
 
-    econ = case.economics
+    econ, cooling = case.economics, case.separator.cooling
     prices = Prices(
         currency=econ.currency, hours_per_year=econ.hours_per_year,
         discount_rate=econ.discount_rate, life_years=econ.life_years,
@@ -204,7 +259,9 @@ def build_loop(case: Case, name: str = "") -> Loop:
         recovery_capital=recovery_capital, recovery_operating_cost_per_kmol=recovery_opex,
         source_price_per_kmol={s: case.sources[s].price_per_kmol for s in case.active_sources},
         recovery_export_price_per_kmol=unit.export_price_per_kmol if export else 0.0,
-        co2_price_per_t=econ.co2_price_per_t, reactor_pressure_factor=reactor_pressure_factor(case))
+        co2_price_per_t=econ.co2_price_per_t, reactor_pressure_factor=reactor_pressure_factor(case),
+        cooling_water_price_per_gj=cooling.water_price_per_gj if cooling else 0.0,
+        refrigeration_capital=_capital(cooling.refrigeration_capital) if cooling else None)
 
     product = case.loop.product
     mw = data[product].molar_mass_kg_kmol
@@ -254,4 +311,5 @@ def build_loop(case: Case, name: str = "") -> Loop:
         letdown_destination=case.separator.letdown_destination,
         ratios=tuple(_ratio(case, r) for r in case.loop.inlet_ratio_limits),
         gas_inventory_kmol=_inventory_kmol(case), pump_efficiency=comp_spec.pump_efficiency,
-        peng_robinson=real_gas)
+        peng_robinson=real_gas,
+        cooling=_cooling(case, data, condensing))

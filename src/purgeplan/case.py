@@ -25,6 +25,7 @@ from pydantic import BaseModel, ConfigDict, Field, ValidationError, model_valida
 from .case_checks import check_property_data
 from .case_checks import key_part as _key
 from .errors import CaseError
+from .physics.thermo import KELVIN
 
 
 def _num(**bounds):
@@ -171,6 +172,7 @@ class SeparatorSpec(_Strict):
     liquid_fraction: dict[Name, Fraction | Literal["condensation"]]
     letdown_pressure_bar: PressureBar | None = None
     letdown_destination: Literal["fuel", "flare"] = "fuel"
+    cooling: SeparatorCoolingSpec | None = None
 
 
 class SourceSpec(_Strict):
@@ -198,6 +200,31 @@ class CapitalItem(_Strict):
     reference_cost: Positive
     reference_size: Positive
     exponent: CapacityExponent = 0.6
+
+
+ApproachK = _num(ge=0, le=200)
+
+
+class SeparatorCoolingSpec(_Strict):
+    """Cooling of the reactor outlet to separator temperature: cooling water, then refrigeration.
+
+    The gas leaves the water cooler ``water_approach_k`` above the cooling
+    water's supply temperature; the refrigerant evaporates
+    ``evaporator_approach_k`` below separator temperature and condenses
+    ``condenser_approach_k`` above the cooling water.  The coefficient of
+    performance is ``carnot_fraction`` of Carnot's (0.55 unless given) or
+    ``coefficient_of_performance`` itself.  Cooling water is priced per GJ of
+    heat it takes; the refrigeration unit's capital is sized on its duty [kW].
+    """
+
+    water_temperature_c: _num(gt=0, lt=100)      # liquid water
+    water_price_per_gj: NonNegative
+    water_approach_k: ApproachK = 5.0
+    evaporator_approach_k: ApproachK = 5.0
+    condenser_approach_k: ApproachK = 10.0
+    carnot_fraction: _num(ge=0.05, le=1) | None = None
+    coefficient_of_performance: _num(ge=0.01, le=1000) | None = None
+    refrigeration_capital: CapitalItem | None = None
 
 
 class RecoveryUnitSpec(_Strict):
@@ -334,6 +361,7 @@ def check_case(case: Case) -> None:
     _check_recovery_unit_in_use(case)
     _check_options(case)
     _check_uncertainty(case)
+    _check_cooling(case)
 
 
 #: The inputs an [uncertainty] table may move, with the range each may take.
@@ -726,6 +754,53 @@ def _check_letdown_and_inventory(case: Case) -> None:
     if loop.gas_inventory_kmol is not None and loop.gas_inventory_m3 is not None:
         raise CaseError("loop.gas_inventory_m3",
                         "give the loop gas inventory once: gas_inventory_kmol or gas_inventory_m3")
+
+
+#: Fraction of the Carnot coefficient of performance a refrigeration cycle reaches when
+#: the case gives neither: common practice for ammonia refrigeration, 0.5 to 0.6 [-].
+CARNOT_FRACTION = 0.55
+
+
+def cooling_temperatures_k(case: Case) -> tuple[float, float, float]:
+    """Water cooler outlet, refrigerant evaporator and condenser temperatures [K].
+
+    The water cooler takes the gas from reactor temperature down to the
+    cooling water's supply temperature plus its approach, but not below
+    separator temperature; refrigeration does the rest.
+    """
+    c = case.separator.cooling
+    t_sep = case.separator.temperature_c + KELVIN
+    t_water = min(max(c.water_temperature_c + c.water_approach_k + KELVIN, t_sep),
+                  case.reactor.temperature_c + KELVIN)
+    return (t_water, t_sep - c.evaporator_approach_k,
+            c.water_temperature_c + c.condenser_approach_k + KELVIN)
+
+
+def _check_cooling(case: Case) -> None:
+    """The separator's cooling: a reactor outlet to cool, a refrigeration cycle that can run."""
+    c = case.separator.cooling
+    if c is None:
+        return
+    base = "separator.cooling"
+    t_sep, t_reactor = case.separator.temperature_c, case.reactor.temperature_c
+    if not t_sep < t_reactor:
+        raise CaseError("separator.temperature_c",
+                        f"{t_sep:g} degC must be below the reactor temperature {t_reactor:g} "
+                        f"degC for {base} to cool the reactor outlet")
+    if c.carnot_fraction is not None and c.coefficient_of_performance is not None:
+        raise CaseError(f"{base}.coefficient_of_performance",
+                        "give carnot_fraction or coefficient_of_performance, not both")
+    t_water, t_evap, t_cond = cooling_temperatures_k(case)
+    if not t_water > t_sep + KELVIN or c.coefficient_of_performance is not None:
+        return  # no refrigeration, or its performance given
+    if not t_evap > 0.0:
+        raise CaseError(f"{base}.evaporator_approach_k",
+                        f"{c.evaporator_approach_k:g} K below separator temperature is "
+                        "below absolute zero")
+    if not t_cond > t_evap:
+        raise CaseError(f"{base}.condenser_approach_k",
+                        f"the refrigerant would condense at {t_cond - KELVIN:g} degC, not above "
+                        f"its evaporator at {t_evap - KELVIN:g} degC; raise condenser_approach_k")
 
 
 def _check_recovery_unit_in_use(case: Case) -> None:

@@ -50,6 +50,8 @@ def check_property_data(case: Case) -> None:
     condensate_vapour_ratio(case, data)
     letdown_release(case, data)
     peng_robinson_data(case, data)
+    if case.separator.cooling is not None:
+        latent_heats_kj_kmol(case, data, case.separator.temperature_c + KELVIN)
 
 
 # ---------------------------------------------------------------------------
@@ -68,15 +70,15 @@ def _override(value: float | None, default: float | None) -> float | None:
 def _one_component(name: str, spec: ComponentSpec) -> ComponentData:
     ident = spec.identifier or name
     try:
-        cas, formula, atoms, mw, lhv, hf, s0, cp, psat = lookup(ident)
+        cas, formula, atoms, mw, lhv, hf, s0, cp, psat, hvap = lookup(ident)
     except LookupError:
         if spec.molar_mass_kg_kmol is None or spec.heat_capacity_j_mol_k is None:
             raise CaseError(f"components.{key_part(name)}",
                             f"unknown component {ident!r}: give identifier = a name, formula "
                             "or CAS number the property library knows, or give "
                             "molar_mass_kg_kmol and heat_capacity_j_mol_k") from None
-        cas, formula, atoms, mw, lhv, hf, s0, cp, psat = ("", "", (), 0.0, 0.0, None, None,
-                                                         None, None)
+        cas, formula, atoms, mw, lhv, hf, s0, cp, psat, hvap = ("", "", (), 0.0, 0.0, None,
+                                                               None, None, None, None)
     if spec.heat_capacity_j_mol_k is not None:
         cp = (spec.heat_capacity_j_mol_k / thermo.R_J_MOL_K,)
     if cp is None:
@@ -88,7 +90,8 @@ def _one_component(name: str, spec: ComponentSpec) -> ComponentData:
         lhv_kj_mol=_override(spec.lower_heating_value_kj_mol, lhv),
         formation_enthalpy_kj_mol=_override(spec.formation_enthalpy_kj_mol, hf),
         standard_entropy_j_mol_k=_override(spec.standard_entropy_j_mol_k, s0),
-        cp_coefficients=tuple(cp), vapour_pressure_coefficients=psat)
+        cp_coefficients=tuple(cp), vapour_pressure_coefficients=psat,
+        vaporisation_enthalpy_coefficients=hvap)
 
 
 def _check_heat_capacities(case: Case, data: Mapping[str, ComponentData]) -> None:
@@ -280,3 +283,26 @@ def peng_robinson_data(case: Case, data: Mapping[str, ComponentData]
                         "Peng-Robinson equation needs: give it an identifier the property "
                         "library knows, or set gas_model = \"ideal_gas\"") from None
     return PengRobinsonData(names, tc, pc, omega, kij)
+
+
+def latent_heats_kj_kmol(case: Case, data: Mapping[str, ComponentData],
+                         temperature_k: float) -> dict[str, float]:
+    """Enthalpy of vaporisation of every component that leaves with the liquid [kJ/kmol].
+
+    DIPPR equation 106 with Perry's coefficients (zero above the critical
+    temperature: a dissolved gas, whose heat of solution is neglected); 0
+    for a component with a zero liquid fraction.  A component in the liquid
+    without data is refused, so the cooling duty never leaves its condensing out.
+    """
+    out = {}
+    for c, split in case.separator.liquid_fraction.items():
+        if split == 0.0:
+            continue
+        h = data[c].vaporisation_enthalpy_j_mol(temperature_k)
+        if h is None:
+            raise CaseError(f"separator.liquid_fraction.{key_part(c)}",
+                            f"no enthalpy of vaporisation data for {c!r}, so separator.cooling "
+                            "cannot count the heat of its condensing: give an identifier the "
+                            "property library knows, or leave separator.cooling out")
+        out[c] = h
+    return {c: out.get(c, 0.0) for c in case.components}

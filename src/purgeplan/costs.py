@@ -98,6 +98,11 @@ def assumptions(loop: Loop) -> dict[str, Assumption]:
         out["recovery_export_price_per_kmol"] = Assumption(
             p.recovery_export_price_per_kmol, f"{cur}/kmol",
             "Price of recovered gas sold out of the loop")
+    if loop.cooling is not None:
+        out["cooling_water_price_per_gj"] = Assumption(
+            p.cooling_water_price_per_gj, f"{cur}/GJ", "Cooling water price per GJ of heat taken")
+    if _refrigeration_capital(loop):
+        caps.append(("refrigeration", p.refrigeration_capital, "kW"))
     for prefix, item, unit in caps:
         out[f"{prefix}_reference_cost"] = Assumption(item.reference_cost, cur,
                                                      f"{prefix.title()} reference installed cost")
@@ -153,7 +158,28 @@ def cost_lines(loop: Loop) -> list[CostLine]:
     if loop.basis == "makeup":
         lines.append(CostLine("product_value", "Product value", "hourly", "product_t_h", "t/h",
                               price="product_price_per_t", sign=-1.0))
-    return lines + _unit_lines(loop)
+    return lines + _unit_lines(loop) + _cooling_lines(loop)
+
+
+def _refrigeration_capital(loop: Loop) -> bool:
+    return (loop.cooling is not None and loop.cooling.refrigerated
+            and loop.prices.refrigeration_capital is not None)
+
+
+def _cooling_lines(loop: Loop) -> list[CostLine]:
+    """Cooling water, refrigeration power and the refrigeration unit (sized on its duty)."""
+    if loop.cooling is None:
+        return []
+    lines = [CostLine("cooling_water", "Cooling water (separator cooling, refrigeration "
+                      "condenser)", "hourly", "cooling_water_duty_gj_h", "GJ/h",
+                      price="cooling_water_price_per_gj")]
+    if loop.cooling.refrigerated:
+        lines.append(CostLine("refrigeration_power", "Refrigeration compressor power", "hourly",
+                              "refrigeration_power_kw", "kW", price="power_price_per_kwh"))
+    if _refrigeration_capital(loop):
+        lines.append(CostLine("refrigeration_capital", "Refrigeration unit capital (annualised)",
+                              "capital", "refrigeration_duty_kw", "kW", capital="refrigeration"))
+    return lines
 
 
 def _unit_lines(loop: Loop) -> list[CostLine]:

@@ -313,6 +313,86 @@ def stream_conditions(loop: Loop) -> dict[str, tuple[float, float]]:
     return {s: out[s] for s in loop.streams}
 
 
+def separator_cooling_duty_kw(v: LoopVariables, loop: Loop):
+    """Heat taken from the reactor outlet to bring it to separator temperature [kW].
+
+    Q = [sum_c S_c (h_c(T_reactor) - h_c(T_separator)) + sum_c L_c lambda_c(T_separator)] / 3600,
+    the reactor outlet S cooled as an ideal gas (the Poling Cp polynomial,
+    :mod:`purgeplan.physics.thermo`) and the liquid L condensed at separator
+    temperature (DIPPR equation 106, Perry's Table 2-150).  Enthalpy is a
+    function of state, so the path does not matter, and S = L + V makes the
+    duty right whatever the separator's split.  Linear in the flows at fixed
+    temperatures.  Neglected: the real-gas enthalpy departure of the loop gas
+    at loop pressure, the heat of solution of the gases dissolved in the
+    liquid (their latent heat is zero above their critical temperature) and
+    the heat of mixing of the liquid.
+    """
+    k = loop.cooling
+    sensible = sum(v.flow["reactor_outlet", c] * k.sensible_kj_kmol[c] for c in loop.components)
+    latent = sum(v.flow["liquid_product", c] * k.latent_kj_kmol[c] for c in loop.components
+                 if k.latent_kj_kmol[c] != 0.0)
+    return (sensible + latent) * (1.0 / 3600.0)
+
+
+def water_cooler_condensate_kmol_h(v: LoopVariables, loop: Loop, condenses=None):
+    """Product condensed in the water cooler, at its outlet temperature [kmol/h].
+
+    Raoult's law as in the separator (:func:`separator_split`), with the
+    vapour ratio beta_w at the water cooler's outlet and the other
+    components all still gas: S_p - beta_w sum_{c != p} S_c where positive,
+    else 0 (the reactor outlet's dew point lies below the outlet).  The other
+    components of the liquid are taken to condense or dissolve below it, in
+    the refrigerated cooler, which leaves no refrigeration duty out.  On
+    numbers the 0 is taken where it applies; a linear programme passes
+    ``condenses`` (1 or 0, from the state it starts from).
+    """
+    beta = loop.cooling.water_vapour_ratio
+    if beta is None:
+        return 0.0
+    p = loop.condensing
+    form = v.flow["reactor_outlet", p] - beta * sum(v.flow["reactor_outlet", c]
+                                                    for c in loop.components if c != p)
+    return max(form, 0.0) if condenses is None else condenses * form
+
+
+def water_cooler_duty_kw(v: LoopVariables, loop: Loop, condenses=None):
+    """Heat taken by cooling water, reactor to water cooler outlet temperature [kW].
+
+    The reactor outlet cooled as an ideal gas to the outlet temperature, and
+    the product condensed there (:func:`water_cooler_condensate_kmol_h`) at
+    its enthalpy of vaporisation at that temperature.  All of the separator
+    cooling duty where the water cooler reaches separator temperature.
+    """
+    k = loop.cooling
+    if not k.refrigerated:
+        return separator_cooling_duty_kw(v, loop)
+    sensible = sum(v.flow["reactor_outlet", c] * k.water_sensible_kj_kmol[c]
+                   for c in loop.components)
+    latent = water_cooler_condensate_kmol_h(v, loop, condenses) * k.water_latent_kj_kmol
+    return (sensible + latent) * (1.0 / 3600.0)
+
+
+def _cooling_quantities(v: LoopVariables, loop: Loop, condenses=None) -> dict:
+    """The separator's cooling duty, split into cooling water and refrigeration.
+
+    Refrigeration takes what the water cooler leaves (duty minus water
+    cooler duty) at the coefficient of performance of the loop's cooling;
+    cooling water takes the water cooler's duty and the heat the
+    refrigeration condenser rejects (refrigeration duty plus power).
+    """
+    if loop.cooling is None:
+        return {}
+    k = loop.cooling
+    total = separator_cooling_duty_kw(v, loop)
+    water = water_cooler_duty_kw(v, loop, condenses)
+    cold = total - water if k.refrigerated else 0.0
+    power = cold * (1.0 / k.coefficient_of_performance) if k.refrigerated else 0.0
+    return {"separator_cooling_duty_kw": total, "water_cooler_duty_kw": water,
+            "water_cooler_condensate_kmol_h": water_cooler_condensate_kmol_h(v, loop, condenses),
+            "refrigeration_duty_kw": cold, "refrigeration_power_kw": power,
+            "cooling_water_duty_gj_h": (water + cold + power) * (3600.0 / 1e6)}
+
+
 def _unit_quantities(v: LoopVariables, loop: Loop) -> dict:
     """Quantities of the recovery unit, the direct feeds, the let-down and the inlet ratios."""
     q = {"recovery_recompression_power_kw": recovery_recompression_power_kw(v, loop),
@@ -329,14 +409,16 @@ def _unit_quantities(v: LoopVariables, loop: Loop) -> dict:
 
 
 def quantities(v: LoopVariables, loop: Loop, work_kj_kmol, catalyst_volume_per_feed,
-               fuel_split: tuple | None = None) -> dict:
+               fuel_split: tuple | None = None, water_condensing=None) -> dict:
     """Every physical quantity a cost line or a limit refers to, by key.
 
     ``work_kj_kmol`` is the recycle compressor's isentropic work per kmol and
     ``catalyst_volume_per_feed`` the catalyst volume per kmol/h of reactor feed
     [m3 h/kmol] (numbers or Pyomo parameters).  ``fuel_split`` is a linear
     programme's (fuel part variable, kmol per GJ) of a fuel sink with a
-    capacity (see :func:`fuel_sink`); None on numbers.
+    capacity (see :func:`fuel_sink`); None on numbers.  ``water_condensing``
+    is a linear programme's 1 or 0 for condensation in the water cooler (see
+    :func:`water_cooler_condensate_kmol_h`); None on numbers.
     """
     q = {f"source_kmol_h:{s.name}": v.source[s.name] for s in loop.sources}
     q.update({
@@ -353,6 +435,7 @@ def quantities(v: LoopVariables, loop: Loop, work_kj_kmol, catalyst_volume_per_f
         "disposal_co2_t_h": disposal_co2_t_h(v, loop),
     })
     q.update(_unit_quantities(v, loop))
+    q.update(_cooling_quantities(v, loop, water_condensing))
     through_makeup = (q["recovery_recompression_power_kw"]
                       if loop.recovery_recompression == "makeup_compressor" else 0.0)
     q["makeup_compressor_duty_kw"] = q["makeup_compressor_power_kw"] + through_makeup

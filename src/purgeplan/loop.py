@@ -24,7 +24,7 @@ from .physics.real_gas import PengRobinsonData
 from .physics.thermo import KELVIN
 from .properties import ComponentData
 
-__all__ = ["KELVIN", "Capital", "InletRatio", "Loop", "Prices", "Reaction", "Source"]
+__all__ = ["KELVIN", "Capital", "Cooling", "InletRatio", "Loop", "Prices", "Reaction", "Source"]
 
 
 @dataclass(frozen=True)
@@ -136,6 +136,35 @@ class Prices:
     co2_price_per_t: float | None = None          # None: no emissions line
     reactor_pressure_factor: float = 1.0          # F_P(loop) / F_P(reference pressure)
     recovery_export_price_per_kmol: float = 0.0
+    cooling_water_price_per_gj: float = 0.0
+    refrigeration_capital: Capital | None = None
+
+
+@dataclass(frozen=True)
+class Cooling:
+    """The separator's cooling: a water cooler, then refrigeration down to the separator.
+
+    Enthalpy changes per kmol of each component [kJ/kmol], fixed by the
+    temperatures (see :func:`purgeplan.build.cooling`):
+    ``sensible_kj_kmol`` ideal gas from reactor to separator temperature,
+    ``latent_kj_kmol`` enthalpy of vaporisation at separator temperature,
+    ``water_sensible_kj_kmol`` ideal gas from reactor temperature to the water
+    cooler's outlet and ``water_latent_kj_kmol`` the condensing product's
+    enthalpy of vaporisation there.  ``water_vapour_ratio`` is the product's
+    moles per mole of other gas in the vapour at the water cooler's outlet
+    (Raoult's law as in the separator), None where nothing condenses there.
+    ``refrigerated`` is False when the water cooler reaches the separator
+    temperature itself; ``coefficient_of_performance`` that of the refrigeration.
+    """
+
+    water_outlet_temperature_k: float
+    sensible_kj_kmol: dict[str, float]
+    latent_kj_kmol: dict[str, float]
+    water_sensible_kj_kmol: dict[str, float]
+    water_latent_kj_kmol: float
+    water_vapour_ratio: float | None
+    refrigerated: bool
+    coefficient_of_performance: float
 
 
 @dataclass(frozen=True)
@@ -188,6 +217,7 @@ class Loop:
     gas_inventory_kmol: float | None = None
     pump_efficiency: float = 0.65
     peng_robinson: PengRobinsonData | None = None   # None: the compressors' gas is ideal
+    cooling: Cooling | None = None
 
     @property
     def ratio_limits(self) -> tuple[InletRatio, ...]:

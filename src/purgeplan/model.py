@@ -59,6 +59,19 @@ def add_fuel_sink(m: pyo.ConcreteModel, loop: Loop, v: LoopVariables) -> tuple |
     return m.fuel_heat_gj_h, m.disposal_kmol_per_gj
 
 
+def add_water_cooler(m: pyo.ConcreteModel, loop: Loop):
+    """Whether the product condenses in the water cooler, ``m.water_cooler_condenses`` (1 or 0).
+
+    Set by the solve layer from the state it starts from (see
+    :func:`purgeplan.equations.water_cooler_condensate_kmol_h`); None where
+    nothing can condense there.
+    """
+    if loop.cooling is None or loop.cooling.water_vapour_ratio is None:
+        return None
+    m.water_cooler_condenses = pyo.Param(mutable=True, initialize=1.0)
+    return m.water_cooler_condenses
+
+
 def add_limits(m: pyo.ConcreteModel, loop: Loop, q: dict) -> None:
     """The state limits of :func:`purgeplan.limits.loop_limits` as ``m.limit[name]``.
 
@@ -161,7 +174,8 @@ def build_model(loop: Loop, capital: str = "tangent", design: str = "fixed"
                       purge_fraction=m.purge_fraction, conversion=m.conversion)
     add_loop_equations(m, loop, v)
     q = quantities(v, loop, m.recycle_work_kj_kmol, m.catalyst_volume_per_feed_m3_h_kmol,
-                   fuel_split=add_fuel_sink(m, loop, v))
+                   fuel_split=add_fuel_sink(m, loop, v),
+                   water_condensing=add_water_cooler(m, loop))
     for key in ("recycle_compressor_power_kw", "makeup_compressor_power_kw", "reactor_volume_m3",
                 "reactor_feed_kmol_h", "inert_kmol_h_reactor_inlet", "disposal_heat_gj_h"):
         m.add_component(key, pyo.Expression(expr=q[key]))

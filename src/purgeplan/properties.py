@@ -5,7 +5,9 @@ ideal-gas formation enthalpies and absolute entropies from the ATcT, CRC and
 API TDB tables; ideal-gas heat capacity coefficients from Poling et al., *The
 Properties of Gases and Liquids*, 5th ed., Appendix A; vapour pressures by the
 Wagner equation (Poling et al.; McGarry 1983); lower heating values from the
-combustion stoichiometry and formation enthalpies (``combustion_data``).
+combustion stoichiometry and formation enthalpies (``combustion_data``);
+enthalpies of vaporisation by the DIPPR equation 106 with the coefficients of
+Perry's *Chemical Engineers' Handbook*, 8th ed., Table 2-150.
 
 Reading those tables costs about a second, so the record looked up for each
 identifier is kept in a per-user cache file, one per ``chemicals`` version
@@ -30,10 +32,11 @@ from functools import lru_cache
 from pathlib import Path
 
 from .errors import CaseError
+from .physics import thermo
 from .physics.separation import wagner_original_pa, wagner_pa
 
 #: Version of the cache file layout; a file of another version is ignored.
-CACHE_FORMAT = 1
+CACHE_FORMAT = 2
 
 
 @dataclass(frozen=True)
@@ -61,6 +64,8 @@ class ComponentData:
         Poling Cp/R polynomial a0..a4, or a constant Cp/R as a one-tuple.
     vapour_pressure_coefficients : tuple or None
         ("wagner", Tc, Pc, a, b, c, d) or ("wagner_original", ...) [K, Pa, -].
+    vaporisation_enthalpy_coefficients : tuple or None
+        ("dippr_106", Tc, C1, C2, C3, C4) [K, J/mol, -] (Perry's Table 2-150).
     """
 
     name: str
@@ -73,6 +78,7 @@ class ComponentData:
     standard_entropy_j_mol_k: float | None
     cp_coefficients: tuple | None
     vapour_pressure_coefficients: tuple | None
+    vaporisation_enthalpy_coefficients: tuple | None = None
 
     def vapour_pressure_bar(self, temperature_k: float) -> float:
         """Vapour pressure by the Wagner equation [bar]."""
@@ -84,12 +90,19 @@ class ComponentData:
         form = wagner_pa if kind == "wagner" else wagner_original_pa
         return form(temperature_k, *coeffs) / 1e5
 
+    def vaporisation_enthalpy_j_mol(self, temperature_k: float) -> float | None:
+        """Enthalpy of vaporisation by DIPPR equation 106 [J/mol]; None without data."""
+        if self.vaporisation_enthalpy_coefficients is None:
+            return None
+        _, tc, *c = self.vaporisation_enthalpy_coefficients
+        return thermo.dippr_106_j_mol(temperature_k, tc, *c)
+
 
 @lru_cache(maxsize=256)
 def lookup(identifier: str) -> tuple:
     """Raw property record for a name, formula or CAS number from ``chemicals``.
 
-    Returns a tuple (cas, formula, atoms, mw, lhv_kj_mol, hf_kj_mol, s0, cp, psat),
+    Returns a tuple (cas, formula, atoms, mw, lhv_kj_mol, hf_kj_mol, s0, cp, psat, hvap),
     from the per-user cache when it holds the identifier for the installed
     ``chemicals`` version.  Raises LookupError when ``chemicals`` does not know
     the identifier.
@@ -105,7 +118,7 @@ def lookup(identifier: str) -> tuple:
 def lookup_uncached(identifier: str) -> tuple:
     """:func:`lookup` straight from the ``chemicals`` tables, bypassing every cache."""
     import chemicals
-    from chemicals import combustion, heat_capacity, identifiers
+    from chemicals import combustion, heat_capacity, identifiers, phase_change
     from chemicals import vapor_pressure as vp
 
     try:
@@ -142,9 +155,13 @@ def lookup_uncached(identifier: str) -> tuple:
         r = vp.Psat_data_WagnerMcGarry.loc[cas]
         psat = ("wagner_original", float(r.Tc), float(r.Pc), float(r.A), float(r.B),
                 float(r.C), float(r.D))
+    hvap = None
+    if cas in phase_change.phase_change_data_Perrys2_150.index:
+        r = phase_change.phase_change_data_Perrys2_150.loc[cas]
+        hvap = ("dippr_106", *(float(r[k]) for k in ("Tc", "C1", "C2", "C3", "C4")))
     return (cas, formula, atoms, float(chemicals.MW(cas)), float(lhv),
             None if hf is None else float(hf) / 1000.0, None if s0 is None else float(s0),
-            cp, psat)
+            cp, psat, hvap)
 
 
 # ---------------------------------------------------------------------------
@@ -178,7 +195,7 @@ def _decode(raw: object) -> tuple:
 
     Raises ValueError (or TypeError) for anything that is not such a record.
     """
-    cas, formula, atoms, mw, lhv, hf, s0, cp, psat = raw
+    cas, formula, atoms, mw, lhv, hf, s0, cp, psat, hvap = raw
     if not (isinstance(cas, str) and isinstance(formula, str)):
         raise ValueError("cas, formula")
     atoms = tuple((str(e), int(n)) for e, n in atoms)
@@ -195,7 +212,13 @@ def _decode(raw: object) -> tuple:
                 isinstance(x, float) for x in coeffs):
             raise ValueError("psat")
         psat = (kind, *coeffs)
-    return (cas, formula, atoms, mw, lhv, hf, s0, cp, psat)
+    if hvap is not None:
+        kind, *coeffs = hvap
+        if kind != "dippr_106" or len(coeffs) != 5 or not all(
+                isinstance(x, float) for x in coeffs):
+            raise ValueError("hvap")
+        hvap = (kind, *coeffs)
+    return (cas, formula, atoms, mw, lhv, hf, s0, cp, psat, hvap)
 
 
 class _DiskCache:

@@ -12,7 +12,9 @@ in three steps:
    converged state; otherwise the LP is solved again with them in force;
 3. refresh the capital tangents: with freedom left, each capital line enters
    the LP as its tangent at the current size, moved to the solution until the
-   sizes stop moving.
+   sizes stop moving (so are a fuel sink's kmol per GJ, a sized reactor's
+   equilibrium conversion and whether the product condenses in the water
+   cooler).
 
 Route.  An LP with no freedom left (one source per feed group) has a single
 feasible point, so it is solved by the direct engine's linear solve
@@ -271,6 +273,17 @@ class LoopLP:
         param.value = kappa
         return True
 
+    def _refresh_water_cooler(self, state: LoopState) -> bool:
+        """Step 3 also sets whether the product condenses in the water cooler, from the state."""
+        param = getattr(self.model, "water_cooler_condenses", None)
+        if param is None:
+            return False
+        condenses = 1.0 if state.quantities["water_cooler_condensate_kmol_h"] > 0.0 else 0.0
+        if condenses == param.value:
+            return False
+        param.value = condenses
+        return True
+
     def evaluate(self, purge_fraction: float, sized_conversion: float | None = None,
                  enforce_limits: bool = True) -> LoopState | None:
         """Converged state at the design variables, or None if infeasible.
@@ -318,7 +331,7 @@ class LoopLP:
             if self.square:
                 return self._keep_checked(key, state)
             if (self._refresh_capital_tangents(state) | self._refresh_fuel_sink(state)
-                    | self._refresh_reactor(state)):
+                    | self._refresh_reactor(state) | self._refresh_water_cooler(state)):
                 x = dict(state.conversion)
                 continue
             if relaxed:

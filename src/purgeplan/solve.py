@@ -393,9 +393,9 @@ def solve_exact_with(loop: Loop, solver_name: str = "scip_direct", **options):
     """The same model with the purge fraction free and exact capital, for a global solver.
 
     Used by the tests to check the reduced-space answer; returns (a, TAC, results).
-    The recycle work and volume coefficients (and a fuel sink's kmol per GJ)
-    are taken converged from the reduced-space solution at the same
-    alternative's optimum.
+    The recycle work and volume coefficients (and a fuel sink's kmol per GJ,
+    and whether the product condenses in the water cooler) are taken
+    converged from the reduced-space solution at the same alternative's optimum.
     """
     import pyomo.environ as pyo
 
@@ -410,6 +410,8 @@ def solve_exact_with(loop: Loop, solver_name: str = "scip_direct", **options):
     if loop.fuel_capacity_gj_h is not None:  # the purge gas's kmol per GJ at the optimum
         q = opt.state.quantities
         m.disposal_kmol_per_gj = q["disposal_kmol_h"] / q["disposal_heat_gj_h"]
+    if hasattr(m, "water_cooler_condenses"):  # condensing in the water cooler at the optimum
+        m.water_cooler_condenses = float(opt.state.quantities["water_cooler_condensate_kmol_h"] > 0)
     for i, x in opt.state.conversion.items():
         m.conversion[i].fix(x)
     m.purge_fraction.unfix()

@@ -264,7 +264,8 @@ def _price(name: str) -> tuple[Callable[[Loop, float], Loop], Callable[[Loop], t
     return move, lambda loop: (getattr(loop.prices, name),)
 
 
-_CAPITALS = ("compressor_capital", "reactor_capital", "recovery_capital")
+_CAPITALS = ("compressor_capital", "reactor_capital", "recovery_capital",
+             "refrigeration_capital")
 
 
 def _capital(loop: Loop, factor: float) -> Loop:

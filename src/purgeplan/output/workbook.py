@@ -69,10 +69,11 @@ UNITS = (
     ("%", "per cent: purge fractions and conversions shown as percentages"),
     ("mol %", "mole per cent (mole fractions, the inert setpoint)"),
     ("kmol/h", "kilomoles per hour"),
-    ("kW", "kilowatt of shaft power"),
+    ("kW", "kilowatt of shaft power, or of heat (cooling and refrigeration duties)"),
     ("kWh", "kilowatt hour"),
     ("m3", "cubic metre (catalyst volume)"),
-    ("GJ/h", "gigajoule per hour, lower heating value basis"),
+    ("GJ/h", "gigajoule per hour: of lower heating value (gas burned), or of heat taken by "
+     "cooling water"),
     ("t/h, t/year", "metric tonnes per hour, per year"),
     ("h/year", "hours on stream per year"),
     ("bar abs", "absolute pressure in bar"),

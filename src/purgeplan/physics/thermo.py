@@ -61,3 +61,19 @@ def heat_capacity_ratio(cp_mixture_j_mol_k: float) -> float:
         Mole-fraction-weighted mixture Cp [J/(mol K)].
     """
     return cp_mixture_j_mol_k / (cp_mixture_j_mol_k - R_J_MOL_K)
+
+
+def dippr_106_j_mol(temperature_k: float, tc_k: float, c1: float, c2: float, c3: float,
+                    c4: float) -> float:
+    """Enthalpy of vaporisation by the DIPPR equation 106 [J/mol].
+
+    Hvap = C1 (1 - Tr)^(C2 + C3 Tr + C4 Tr^2), Tr = T / Tc, with the
+    coefficients of Perry's *Chemical Engineers' Handbook*, 8th ed. (Green and
+    Perry, McGraw-Hill 2008), Table 2-150, as carried by the ``chemicals``
+    library.  Zero at and above the critical temperature, where there is no
+    liquid to vaporise.
+    """
+    tr = temperature_k / tc_k
+    if tr >= 1.0:
+        return 0.0
+    return c1 * (1.0 - tr) ** (c2 + c3 * tr + c4 * tr * tr)
