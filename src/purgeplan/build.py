@@ -14,7 +14,14 @@ import dataclasses
 from collections.abc import Mapping
 
 from .case import CapitalItem, Case, stoichiometric_ratio
-from .case_checks import component_data, condensate_vapour_ratio, formation_terms, letdown_release
+from .case_checks import (
+    component_data,
+    condensate_vapour_ratio,
+    formation_terms,
+    letdown_release,
+    peng_robinson_data,
+    separator_k_values,
+)
 from .coefficients import equilibrium_rhs, mixture_heat_capacity_ratio
 from .loop import KELVIN, Capital, InletRatio, Loop, Prices, Reaction, Source
 from .physics import compression, economics
@@ -239,4 +246,7 @@ def build_loop(case: Case, name: str = "") -> Loop:
         letdown_pressure_bar=case.separator.letdown_pressure_bar,
         letdown_destination=case.separator.letdown_destination,
         ratios=tuple(_ratio(case, r) for r in case.loop.inlet_ratio_limits),
-        gas_inventory_kmol=_inventory_kmol(case), pump_efficiency=comp_spec.pump_efficiency)
+        gas_inventory_kmol=_inventory_kmol(case), pump_efficiency=comp_spec.pump_efficiency,
+        separator_model=case.separator.split_model,
+        separator_k_values=separator_k_values(case, data),
+        separator_peng_robinson=peng_robinson_data(case, data))

@@ -48,6 +48,8 @@ def check_property_data(case: Case) -> None:
         _check_fugacity(path, spec, t_reactor, case.loop.pressure_bar)
     condensate_vapour_ratio(case, data)
     letdown_release(case, data)
+    separator_k_values(case, data)
+    peng_robinson_data(case, data)
 
 
 # ---------------------------------------------------------------------------
@@ -252,3 +254,103 @@ def letdown_release(case: Case, data: Mapping[str, ComponentData]) -> dict[str, 
     released = separation.dissolved_gas_released_fraction(p_ld, low)
     return {c: (0.0 if c == product or _stays_liquid(data[c], t_sep, p_ld) else released)
             for c in case.components}
+
+
+# ---------------------------------------------------------------------------
+# the phase-equilibrium separator
+
+#: CAS numbers of the liquid and the gases of :data:`separation.HENRY_IN_AMMONIA`.
+AMMONIA_CAS = "7664-41-7"
+GAS_CAS = {"1333-74-0": "H2", "7727-37-9": "N2", "7440-37-1": "Ar", "74-82-8": "CH4"}
+
+
+def _separator_conditions(case: Case) -> tuple[float, float]:
+    """Separator temperature [K] and pressure [bar]: loop pressure less the pressure drop."""
+    return (case.separator.temperature_c + KELVIN,
+            case.loop.pressure_bar - case.loop.pressure_drop_bar)
+
+
+def _builtin_henry_bar(case: Case, data: Mapping[str, ComponentData], c: str,
+                       temperature_k: float) -> float | None:
+    """Henry constant of a gas in liquid ammonia from the built-in table, if it has one."""
+    if data[case.loop.product].cas != AMMONIA_CAS or data[c].cas not in GAS_CAS:
+        return None
+    return separation.henry_constant_bar(*separation.HENRY_IN_AMMONIA[GAS_CAS[data[c].cas]],
+                                         temperature_k)
+
+
+def _raoult_k(d: ComponentData, temperature_k: float, pressure_bar: float) -> float | None:
+    """K of a component that condenses (below its critical temperature), else None."""
+    coefficients = d.vapour_pressure_coefficients
+    if coefficients is None or temperature_k >= coefficients[1]:
+        return None
+    psat = d.vapour_pressure_bar(temperature_k)
+    volume = separation.rackett_liquid_volume_m3_mol(
+        temperature_k, coefficients[1], coefficients[2] / 1e5,
+        separation.acentric_factor(d.vapour_pressure_bar(0.7 * coefficients[1]),
+                                   coefficients[2] / 1e5))
+    poynting = separation.poynting_factor(volume, pressure_bar, psat, temperature_k)
+    return separation.raoult_k_value(psat, pressure_bar, poynting)
+
+
+def separator_k_values(case: Case, data: Mapping[str, ComponentData]) -> dict[str, float] | None:
+    """K = y/x of every component in a Henry-Raoult separator [-]; None for another model.
+
+    A gas with a Henry constant (the case's, else the built-in one for gases in
+    liquid ammonia) dissolves by Henry's law; any other component below its
+    critical temperature condenses by Raoult's law (ideal liquid solution,
+    Poynting-corrected).  The product must condense.
+    """
+    sep = case.separator
+    if sep.split_model != "henry_raoult":
+        return None
+    t, p = _separator_conditions(case)
+    out = {}
+    for c in case.components:
+        henry = sep.henry_constant_bar.get(c) or _builtin_henry_bar(case, data, c, t)
+        if henry is not None:
+            out[c] = separation.henry_k_value(henry, p)
+            continue
+        try:
+            k = _raoult_k(data[c], t, p)
+        except (ArithmeticError, ValueError) as exc:
+            raise CaseError("separator.temperature_c", str(exc)) from None
+        if k is None:
+            raise CaseError(f"separator.henry_constant_bar.{key_part(c)}",
+                            f"{c!r} does not condense at {sep.temperature_c:g} degC and no "
+                            "Henry constant is known for it in this liquid: give its Henry "
+                            "constant at separator temperature [bar]")
+        out[c] = k
+    product = case.loop.product
+    if not out[product] < 1.0:
+        raise CaseError("separator.temperature_c",
+                        f"the product {product!r} does not condense at {sep.temperature_c:g} "
+                        f"degC and {p:g} bar (K = {out[product]:.3g}): cool the separator")
+    return out
+
+
+def peng_robinson_data(case: Case, data: Mapping[str, ComponentData]) -> tuple | None:
+    """Critical constants, acentric factors and stored kij for a Peng-Robinson separator.
+
+    ``(Tc [K], Pc [Pa], omega, kij)`` in component order from the ``chemicals``
+    library and the ChemSep binary parameters carried by ``thermo``; None for
+    another model.
+    """
+    if case.separator.split_model != "peng_robinson":
+        return None
+    from chemicals import acentric, critical
+    from thermo.interaction_parameters import IPDB
+
+    cas = []
+    for c in case.components:
+        known = data[c].cas and critical.Tc(data[c].cas) and critical.Pc(data[c].cas)
+        if not known or acentric.omega(data[c].cas) is None:
+            raise CaseError(f"components.{key_part(c)}.identifier",
+                            "model = 'peng_robinson' needs the critical constants and acentric "
+                            "factor of every component: give an identifier the property "
+                            "library knows, or use model = 'henry_raoult'")
+        cas.append(data[c].cas)
+    kij = IPDB.get_ip_asymmetric_matrix("ChemSep PR", cas, "kij")
+    return (tuple(float(critical.Tc(x)) for x in cas), tuple(float(critical.Pc(x)) for x in cas),
+            tuple(float(acentric.omega(x)) for x in cas),
+            tuple(tuple(float(k) for k in row) for row in kij))

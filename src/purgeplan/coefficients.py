@@ -2,8 +2,9 @@
 
 The balances of :mod:`purgeplan.equations` are linear once these are fixed:
 the recycle compressor's work per kmol (from the gas's heat-capacity ratio),
-the catalyst volume per kmol/h of reactor feed, and the equilibrium
-conversion of each reaction at the reactor inlet composition.  The inner
+the catalyst volume per kmol/h of reactor feed, the equilibrium
+conversion of each reaction at the reactor inlet composition, and a
+phase-equilibrium separator's K-values.  The inner
 fixed point (:mod:`purgeplan.fixed_point`) converges them.
 """
 
@@ -15,7 +16,7 @@ from collections.abc import Mapping
 import numpy as np
 
 from .loop import Loop, Reaction
-from .physics import compression, reactor, thermo
+from .physics import compression, reactor, separation, thermo
 from .physics import equilibrium as eq
 from .properties import ComponentData
 
@@ -107,3 +108,29 @@ def equilibrium_conversions(loop: Loop, inlet_kmol_h: Mapping[str, float]) -> di
         r = loop.reactions[i]
         out[i] = float(xi[j] * r.key_coefficient / max(inlet_kmol_h[r.key_reactant], 1e-300))
     return out
+
+
+def separator_k_values(loop: Loop, liquid_kmol_h: Mapping[str, float] | None = None,
+                       vapour_kmol_h: Mapping[str, float] | None = None) -> dict[str, float]:
+    """K = y/x of each component in a phase-equilibrium separator [-].
+
+    Henry and Raoult's laws give K-values fixed for the loop (evaluated when it
+    is built).  Peng-Robinson K-values depend on the compositions of the
+    liquid and vapour: they are evaluated at the flows given, and without
+    flows estimated by Wilson's correlation.
+    """
+    if loop.separator_k_values is not None:
+        return dict(loop.separator_k_values)
+    t, p = loop.separator_temperature_k, loop.pressure_bar - loop.pressure_drop_bar
+    tcs, pcs, omegas, _ = loop.separator_peng_robinson
+    if liquid_kmol_h is None:
+        return {c: separation.wilson_k_value(tcs[j], pcs[j], omegas[j], t, p)
+                for j, c in enumerate(loop.components)}
+    x, y = (_fractions(liquid_kmol_h, loop.components), _fractions(vapour_kmol_h, loop.components))
+    k = separation.peng_robinson_k_values(loop.separator_peng_robinson, t, p, x, y)
+    return dict(zip(loop.components, k, strict=True))
+
+
+def _fractions(flow: Mapping[str, float], components) -> list[float]:
+    total = sum(max(flow[c], 0.0) for c in components)
+    return [max(flow[c], 0.0) / total for c in components]

@@ -6,21 +6,35 @@ balances are linear once the state-dependent coefficients of
 linear solve (the direct engine, or HiGHS in the reduced space) with a fresh
 evaluation of those coefficients until they stop moving.  An equilibrium
 reactor runs at approach x X_eq(inlet composition), found by a secant step on
-the residual.  Both the direct engine and the optimiser use this one function.
+the residual.  A phase-equilibrium separator splits its feed at K-values and a
+vapour-to-liquid ratio V/L fixed for each linear solve (see
+:func:`purgeplan.equations.separator_split`); at each iterate of the
+conversions V/L is converged first, by secant steps in ln(V/L) on the
+residual ln V/L(flows) - ln V/L (with the conversions fixed the loop's
+response to V/L is damped: inerts held up in the loop grow with V/L, but
+less than in proportion), and composition-dependent K-values by successive
+substitution.  Both the direct engine and the optimiser use this one function.
 """
 
 from __future__ import annotations
 
+import math
 from collections.abc import Callable, Mapping
 from dataclasses import dataclass
 
 from . import coefficients
 from .errors import NoSteadyStateError
 from .loop import KELVIN, Loop
+from .physics import separation
 
-#: A linear solve at fixed conversions and recycle work: flows, extents and
-#: source flows, or None when the solver proves the point infeasible.
-LinearSolve = Callable[[dict[int, float], float | None], tuple | None]
+#: A linear solve at fixed conversions, recycle work and separator liquid shares (None
+#: without a phase-equilibrium separator): flows, extents and source flows, or None
+#: when the solver proves the point infeasible.
+LinearSolve = Callable[[dict[int, float], float | None, dict[str, float] | None],
+                       tuple | None]
+
+#: Range kept for ln of a separator's vapour-to-liquid ratio while it converges [-].
+VAPOUR_PER_LIQUID_LOG_RANGE = (-30.0, 30.0)
 
 
 @dataclass
@@ -35,6 +49,9 @@ class Converged:
     sources: dict[str, float]
     iterations: int
     slopes: dict[int, float]
+    #: A phase-equilibrium separator's vapour-to-liquid ratio V/L [-] and K-values.
+    vapour_per_liquid: float | None = None
+    k_values: dict[str, float] | None = None
 
 
 def initial_conversions(loop: Loop, given: Mapping[int, float] | None = None) -> dict[int, float]:
@@ -52,13 +69,14 @@ def initial_conversions(loop: Loop, given: Mapping[int, float] | None = None) ->
     return out
 
 
-def secant_step(history: list, x: float, residual: float, slope: float | None = None) -> float:
+def secant_step(history: list, x: float, residual: float, slope: float | None = None,
+                bounds: tuple[float, float] = (1e-9, 0.999999)) -> float:
     """Next iterate of residual(x) = 0 by the secant method over the last two points.
 
     The first step uses ``slope`` (d residual / dx, for instance from a
     neighbouring design point) where given, else the plain fixed-point step
-    x + residual(x).  The iterate is kept inside (1e-9, 0.999999), the range
-    of a conversion.
+    x + residual(x).  The iterate is kept inside ``bounds``, by default
+    (1e-9, 0.999999), the range of a conversion.
     """
     history.append((x, residual))
     if len(history) >= 2 and history[-1][1] != history[-2][1]:
@@ -68,7 +86,7 @@ def secant_step(history: list, x: float, residual: float, slope: float | None = 
         x = x - residual / slope
     else:
         x = x + residual
-    return min(max(x, 1e-9), 0.999999)
+    return min(max(x, bounds[0]), bounds[1])
 
 
 def _slope(history: list) -> float | None:
@@ -82,7 +100,8 @@ def _slope(history: list) -> float | None:
 def converge(loop: Loop, solve: LinearSolve, conversion: Mapping[int, float],
              work_kj_kmol: float | None = None, *, tolerance: float = 1e-13,
              max_iterations: int = 200, work_matters: bool = False,
-             slopes: Mapping[int, float] | None = None) -> Converged | None:
+             slopes: Mapping[int, float] | None = None,
+             vapour_per_liquid: float | None = None) -> Converged | None:
     """Converge per-pass conversions (and recycle work) at fixed design variables.
 
     Parameters
@@ -105,6 +124,9 @@ def converge(loop: Loop, solve: LinearSolve, conversion: Mapping[int, float],
     slopes : mapping, optional
         d(residual)/d(conversion) of each equilibrium reaction for the first
         secant step, as returned in :attr:`Converged.slopes` at a nearby point.
+    vapour_per_liquid : float, optional
+        Starting vapour-to-liquid ratio of a phase-equilibrium separator [-],
+        for instance :attr:`Converged.vapour_per_liquid` at a nearby point.
 
     Returns
     -------
@@ -122,12 +144,18 @@ def converge(loop: Loop, solve: LinearSolve, conversion: Mapping[int, float],
     history: dict[int, list] = {}
     physical_x = None
     too_low: dict[int, float] = {}  # largest conversion seen with no physical steady state
+    separator = _Separator(loop, vapour_per_liquid)
     for iteration in range(1, max_iterations + 1):
-        solved = solve(x, work)
+        try:
+            solved = separator.solve(solve, x, work, tolerance)
+        except _SeparatorDiverged as exc:
+            if physical_x is None:
+                raise NoSteadyStateError(str(exc)) from None
+            solved = None, None, None
         if solved is None:
             return None
         flows, extents, sources = solved
-        if _negative(flows):
+        if flows is None or _negative(flows):
             if physical_x is None:
                 raise NoSteadyStateError(_unphysical(flows))
             for i in x:
@@ -158,7 +186,8 @@ def converge(loop: Loop, solve: LinearSolve, conversion: Mapping[int, float],
             known = {i: _slope(h) for i, h in history.items()}
             return Converged(x, eq_x, work if work_matters else new_work, flows, extents,
                              sources, iteration,
-                             {i: v for i, v in known.items() if v is not None})
+                             {i: v for i, v in known.items() if v is not None},
+                             separator.ratio, separator.k)
         x, work = new_x, new_work
     raise NoSteadyStateError("the per-pass conversion did not converge in "
                              f"{max_iterations} fixed-point steps")
@@ -220,3 +249,52 @@ def _composition(flow: Mapping[str, float]) -> dict[str, float]:
     if total <= 0:
         return {c: 1.0 / len(flow) for c in flow}
     return {c: max(f, 0.0) / total for c, f in flow.items()}
+
+
+class _Separator:
+    """The state-dependent split of a phase-equilibrium separator, converged at fixed
+    conversions (see the module docstring); a plain linear solve for a
+    split-fraction separator."""
+
+    max_steps = 100
+
+    def __init__(self, loop: Loop, vapour_per_liquid: float | None):
+        self.active = loop.separator_model != "split_fractions"
+        self.loop = loop
+        self.k = coefficients.separator_k_values(loop) if self.active else None
+        self.ratio = (vapour_per_liquid or 1.0) if self.active else None
+
+    def shares(self) -> dict[str, float]:
+        return {c: separation.liquid_share(k, self.ratio) for c, k in self.k.items()}
+
+    def solve(self, solve: LinearSolve, conversion: dict[int, float], work: float | None,
+              tolerance: float):
+        """The linear solve with V/L (and K-values) converged at these conversions."""
+        if not self.active:
+            return solve(conversion, work, None)
+        history: list = []
+        for _ in range(self.max_steps):
+            try:
+                solved = solve(conversion, work, self.shares())
+            except NoSteadyStateError as exc:
+                raise _SeparatorDiverged(str(exc)) from None
+            if solved is None or _negative(solved[0]):
+                return solved
+            liquid, vapour = solved[0]["liquid_product"], solved[0]["separator_vapour"]
+            measured = sum(vapour.values()) / max(sum(liquid.values()), 1e-300)
+            k_new = (self.k if self.loop.separator_k_values is not None
+                     else coefficients.separator_k_values(self.loop, liquid, vapour))
+            residual = math.log(max(measured, 1e-300)) - math.log(self.ratio)
+            moved = max([abs(residual)] + [abs(k_new[c] / k - 1.0) for c, k in self.k.items()])
+            if moved < tolerance:
+                return solved
+            self.k = k_new
+            log_ratio = secant_step(history, math.log(self.ratio), residual,
+                                    bounds=VAPOUR_PER_LIQUID_LOG_RANGE)
+            self.ratio = math.exp(log_ratio)
+        raise _SeparatorDiverged("the separator's vapour-to-liquid ratio did not converge in "
+                                 f"{self.max_steps} steps")
+
+
+class _SeparatorDiverged(Exception):
+    """No steady state of the separator at these conversions (the outer loop steps back)."""

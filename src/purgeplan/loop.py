@@ -169,6 +169,12 @@ class Loop:
     ratios: tuple[InletRatio, ...] = ()
     gas_inventory_kmol: float | None = None
     pump_efficiency: float = 0.65
+    #: "split_fractions" (``liquid_fraction`` and ``condensing``), "henry_raoult"
+    #: (fixed K-values ``separator_k_values``) or "peng_robinson" (K-values at the
+    #: state from ``separator_peng_robinson``: Tc, Pc, omega, kij in component order).
+    separator_model: str = "split_fractions"
+    separator_k_values: dict[str, float] | None = None
+    separator_peng_robinson: tuple | None = None
 
     @property
     def ratio_limits(self) -> tuple[InletRatio, ...]:
