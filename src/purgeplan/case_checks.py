@@ -47,9 +47,9 @@ def check_property_data(case: Case) -> None:
         _check_gillespie_beattie(path, spec)
         _check_fugacity(path, spec, t_reactor, case.loop.pressure_bar)
     condensate_vapour_ratio(case, data)
-    letdown_release(case, data)
     separator_k_values(case, data)
     peng_robinson_data(case, data)
+    letdown_release(case, data)
 
 
 # ---------------------------------------------------------------------------
@@ -187,6 +187,15 @@ def _check_fugacity(path: str, spec: ReactionSpec, temperature_k: float,
 # separator
 
 
+def _check_below_critical(case: Case, condensing: str, tc_k: float) -> None:
+    """The separator must run below the critical temperature of the product it condenses."""
+    t_sep_c = case.separator.temperature_c
+    if t_sep_c >= tc_k - KELVIN:
+        raise CaseError("separator.temperature_c",
+                        f"{t_sep_c:g} degC is not below the critical temperature of "
+                        f"{condensing!r} ({tc_k - KELVIN:.6g} degC): nothing condenses")
+
+
 def condensate_vapour_ratio(case: Case, data: Mapping[str, ComponentData]
                             ) -> tuple[str | None, float]:
     """The condensing component (or None) and its moles per mole of other separator vapour."""
@@ -199,12 +208,8 @@ def condensate_vapour_ratio(case: Case, data: Mapping[str, ComponentData]
         raise CaseError(f"separator.liquid_fraction.{key_part(condensing)}",
                         f"no vapour pressure data for {condensing!r}, so it cannot condense: "
                         "give a split fraction, or an identifier the property library knows")
+    _check_below_critical(case, condensing, coefficients[1])
     t_sep_c = case.separator.temperature_c
-    t_critical_c = coefficients[1] - KELVIN
-    if t_sep_c >= t_critical_c:
-        raise CaseError("separator.temperature_c",
-                        f"{t_sep_c:g} degC is not below the critical temperature of "
-                        f"{condensing!r} ({t_critical_c:.6g} degC): nothing condenses")
     loop = case.loop
     try:
         psat = data[condensing].vapour_pressure_bar(t_sep_c + KELVIN)
@@ -305,6 +310,10 @@ def separator_k_values(case: Case, data: Mapping[str, ComponentData]) -> dict[st
     if sep.split_model != "henry_raoult":
         return None
     t, p = _separator_conditions(case)
+    product = case.loop.product
+    coefficients = data[product].vapour_pressure_coefficients
+    if product not in sep.henry_constant_bar and coefficients is not None:
+        _check_below_critical(case, product, coefficients[1])
     out = {}
     for c in case.components:
         henry = sep.henry_constant_bar.get(c) or _builtin_henry_bar(case, data, c, t)
@@ -321,7 +330,6 @@ def separator_k_values(case: Case, data: Mapping[str, ComponentData]) -> dict[st
                             "Henry constant is known for it in this liquid: give its Henry "
                             "constant at separator temperature [bar]")
         out[c] = k
-    product = case.loop.product
     if not out[product] < 1.0:
         raise CaseError("separator.temperature_c",
                         f"the product {product!r} does not condense at {sep.temperature_c:g} "
@@ -332,9 +340,9 @@ def separator_k_values(case: Case, data: Mapping[str, ComponentData]) -> dict[st
 def peng_robinson_data(case: Case, data: Mapping[str, ComponentData]) -> tuple | None:
     """Critical constants, acentric factors and stored kij for a Peng-Robinson separator.
 
-    ``(Tc [K], Pc [Pa], omega, kij)`` in component order from the ``chemicals``
-    library and the ChemSep binary parameters carried by ``thermo``; None for
-    another model.
+    ``(Tc [K], Pc [Pa], omega, kij)`` in the loop's (sorted) component order,
+    from the ``chemicals`` library and the ChemSep binary parameters carried by
+    ``thermo``; None for another model.
     """
     if case.separator.split_model != "peng_robinson":
         return None
@@ -342,7 +350,7 @@ def peng_robinson_data(case: Case, data: Mapping[str, ComponentData]) -> tuple |
     from thermo.interaction_parameters import IPDB
 
     cas = []
-    for c in case.components:
+    for c in sorted(case.components):  # the order of Loop.components
         known = data[c].cas and critical.Tc(data[c].cas) and critical.Pc(data[c].cas)
         if not known or acentric.omega(data[c].cas) is None:
             raise CaseError(f"components.{key_part(c)}.identifier",
@@ -350,6 +358,8 @@ def peng_robinson_data(case: Case, data: Mapping[str, ComponentData]) -> tuple |
                             "factor of every component: give an identifier the property "
                             "library knows, or use model = 'henry_raoult'")
         cas.append(data[c].cas)
+    _check_below_critical(case, case.loop.product,
+                          float(critical.Tc(data[case.loop.product].cas)))
     kij = IPDB.get_ip_asymmetric_matrix("ChemSep PR", cas, "kij")
     return (tuple(float(critical.Tc(x)) for x in cas), tuple(float(critical.Pc(x)) for x in cas),
             tuple(float(acentric.omega(x)) for x in cas),

@@ -117,15 +117,15 @@ def separator_k_values(loop: Loop, liquid_kmol_h: Mapping[str, float] | None = N
     Henry and Raoult's laws give K-values fixed for the loop (evaluated when it
     is built).  Peng-Robinson K-values depend on the compositions of the
     liquid and vapour: they are evaluated at the flows given, and without
-    flows estimated by Wilson's correlation.
+    flows at the start of the inner fixed point, each gas at infinite dilution
+    in the liquid product under a vapour of the first make-up gas.
     """
     if loop.separator_k_values is not None:
         return dict(loop.separator_k_values)
     t, p = loop.separator_temperature_k, loop.pressure_bar - loop.pressure_drop_bar
-    tcs, pcs, omegas, _ = loop.separator_peng_robinson
     if liquid_kmol_h is None:
-        return {c: separation.wilson_k_value(tcs[j], pcs[j], omegas[j], t, p)
-                for j, c in enumerate(loop.components)}
+        liquid_kmol_h = {c: float(c == loop.product) for c in loop.components}
+        vapour_kmol_h = loop.makeup_sources[0].composition
     x, y = (_fractions(liquid_kmol_h, loop.components), _fractions(vapour_kmol_h, loop.components))
     k = separation.peng_robinson_k_values(loop.separator_peng_robinson, t, p, x, y)
     return dict(zip(loop.components, k, strict=True))

@@ -86,12 +86,15 @@ class Engine:
             self.a_conv.append(ai - a0)
             if np.any(bi != b0) or np.any(b1 != b0):
                 raise AssertionError("loop equations: the constants depend on design variables")
-        #: A phase-equilibrium separator's liquid shares enter as A += phi_c A_share[c].
-        self.a_share = {}
+        #: A phase-equilibrium separator's liquid shares enter as A += sum_c phi_c A_c, kept
+        #: as the nonzero entries (component, row, column, value) of the A_c.
+        self.share_entries = None
         if loop.separator_model != "split_fractions":
             zero = [0.0] * n_r
-            self.a_share = {c: self._matrix(0.0, zero, liquid_share={
-                o: float(o == c) for o in loop.components})[0] - a0 for c in loop.components}
+            stack = np.array([self._matrix(0.0, zero, liquid_share={
+                o: float(o == c) for o in loop.components})[0] - a0 for c in loop.components])
+            k, row, col = np.nonzero(stack)
+            self.share_entries = (k, row, col, stack[k, row, col])
         if a0.shape[0] != a0.shape[1]:
             raise NoSteadyStateError(
                 f"{a0.shape[0]} equations for {a0.shape[1]} unknowns: case validation "
@@ -139,8 +142,10 @@ class Engine:
         a = self.a0 + purge_fraction * self.a_purge
         for i, x in enumerate(conversion):
             a += x * self.a_conv[i]
-        for c, a_c in self.a_share.items():
-            a += liquid_share[c] * a_c
+        if self.share_entries is not None:
+            k, row, col, value = self.share_entries
+            phi = np.array([liquid_share[c] for c in self.loop.components])
+            np.add.at(a, (row, col), phi[k] * value)
         b = self.b0
         row = self._share_row_start
         for names in self.group_rows:

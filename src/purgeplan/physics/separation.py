@@ -1,4 +1,4 @@
-"""Separator vapour-liquid split: a condensing product, K-values and the flash.
+"""Separator vapour-liquid split: a condensing product, K-values and the split they give.
 
 Notes
 -----
@@ -165,35 +165,6 @@ def liquid_share(k_value: float, vapour_per_liquid: float) -> float:
     return 1.0 / (1.0 + k_value * vapour_per_liquid)
 
 
-def vapour_per_liquid(feed: dict[str, float], k_values: dict[str, float]) -> float:
-    """Vapour-to-liquid molar ratio V/L of an isothermal flash of a feed [-].
-
-    The Rachford-Rice equation sum z_c (K_c - 1) / (1 + beta (K_c - 1)) = 0 for
-    the vapour fraction beta (Rachford and Rice, *J. Petrol. Technol.* 4(10),
-    1952; from memory), solved by bisection on beta in (0, 1); V/L = beta / (1 - beta).
-    Raises ValueError when the feed does not split into two phases.
-    """
-    total = sum(feed.values())
-    z = {c: f / total for c, f in feed.items() if f > 0.0}
-
-    def rr(beta):
-        return sum(zc * (k_values[c] - 1.0) / (1.0 + beta * (k_values[c] - 1.0))
-                   for c, zc in z.items())
-    if not (rr(0.0) > 0.0 > rr(1.0)):
-        raise ValueError("the separator feed does not split into vapour and liquid")
-    low, high = 0.0, 1.0
-    for _ in range(200):
-        mid = 0.5 * (low + high)
-        if rr(mid) > 0.0:
-            low = mid
-        else:
-            high = mid
-        if high - low < 1e-15:
-            break
-    beta = 0.5 * (low + high)
-    return beta / (1.0 - beta)
-
-
 def acentric_factor(vapour_pressure_at_0_7_tc_bar: float, pc_bar: float) -> float:
     """Pitzer's acentric factor, omega = -log10(Psat(0.7 Tc) / Pc) - 1 [-].
 
@@ -213,18 +184,6 @@ def rackett_liquid_volume_m3_mol(temperature_k: float, tc_k: float, pc_bar: floa
     z_ra = 0.29056 - 0.08775 * omega
     tr = min(temperature_k / tc_k, 1.0)
     return 8.314462618 * tc_k / (pc_bar * 1e5) * z_ra ** (1.0 + (1.0 - tr) ** (2.0 / 7.0))
-
-
-def wilson_k_value(tc_k: float, pc_pa: float, omega: float, temperature_k: float,
-                   pressure_bar: float) -> float:
-    """Wilson's estimate of K = y/x, (Pc/P) exp(5.373 (1 + omega)(1 - Tc/T)) [-].
-
-    (G. M. Wilson, 1968, as given by Michelsen and Mollerup, *Thermodynamic
-    Models: Fundamentals and Computational Aspects*; from memory.)  The start
-    of a Peng-Robinson separator's K-values.
-    """
-    return (pc_pa / (pressure_bar * 1e5)) * exp(5.373 * (1.0 + omega)
-                                                * (1.0 - tc_k / temperature_k))
 
 
 def peng_robinson_k_values(constants: tuple, temperature_k: float, pressure_bar: float,
