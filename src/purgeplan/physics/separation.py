@@ -100,34 +100,33 @@ def dissolved_gas_released_fraction(letdown_pressure_bar: float,
 # ---------------------------------------------------------------------------
 # vapour-liquid equilibrium: K-values y/x and the split they give
 
-#: Henry constants of gases dissolved in liquid ammonia: (H at 298.15 K [bar], B [K]) of
-#: H(T) = H(298.15 K) exp(B (1/T - 1/298.15)).  H2 and N2 at 25 degC from the
-#: measurements of Wiebe and Tremearne (1933, 1934; values from memory); Ar and CH4
-#: scaled from N2 by their solubility relative to N2 in water, 2.2 (Sander's
-#: compilation, 2023: 1.4e-5 against 6.4e-6 mol/(m3 Pa) at 25 degC; an estimate, no
-#: measurement in ammonia was found).  B from Larson and Black (1925): the
-#: solubility of 3:1 H2/N2 in liquid ammonia "more than doubles with a 50 degC
-#: rise", so B = ln 2 / (1/248.15 - 1/298.15) = 1026 K, taken for every gas.
-#: See docs/references.md section 12.
-HENRY_IN_AMMONIA: dict[str, tuple[float, float]] = {
-    "H2": (22500.0, 1026.0),
-    "N2": (17000.0, 1026.0),
-    "Ar": (7800.0, 1026.0),
-    "CH4": (7800.0, 1026.0),
+#: Henry constants of gases dissolved in liquid ammonia: (H [bar] at T_ref [K], T_ref,
+#: B [K]) of H(T) = H(T_ref) exp(B (1/T - 1/T_ref)).  H2 and N2 at 25 degC from the
+#: measurements of Wiebe and Tremearne (1933, 1934; values from memory).  Ar and CH4
+#: at 253.2 K (-20 degC), p = 7700 x and 3600 x atm, the equilibrium data of a
+#: textbook problem on absorbing them from nitrogen into liquid ammonia at 175 atm
+#: (Wankat, *Separation Process Engineering*, attribution from memory; the problem
+#: as published online seen).  B from Larson and Black (1925): the solubility of
+#: 3:1 H2/N2 in liquid ammonia "more than doubles with a 50 degC rise", so
+#: B = ln 2 / (1/248.15 - 1/298.15) = 1026 K, taken for every gas.  See
+#: docs/references.md section 12.
+HENRY_IN_AMMONIA: dict[str, tuple[float, float, float]] = {
+    "H2": (22500.0, 298.15, 1026.0),
+    "N2": (17000.0, 298.15, 1026.0),
+    "Ar": (7700.0 * 1.01325, 253.2, 1026.0),
+    "CH4": (3600.0 * 1.01325, 253.2, 1026.0),
 }
 
-#: Reference temperature of :data:`HENRY_IN_AMMONIA` [K].
-HENRY_REFERENCE_K = 298.15
 
-
-def henry_constant_bar(h_ref_bar: float, b_k: float, temperature_k: float) -> float:
+def henry_constant_bar(h_ref_bar: float, t_ref_k: float, b_k: float,
+                       temperature_k: float) -> float:
     """Henry constant of a dissolved gas at a temperature, van 't Hoff form [bar].
 
-    H(T) = H(298.15 K) exp(B (1/T - 1/298.15 K)); B > 0 when the gas dissolves
+    H(T) = H(T_ref) exp(B (1/T - 1/T_ref)); B > 0 when the gas dissolves
     more as the liquid warms, as the permanent gases do in liquid ammonia
     (Larson and Black, *Ind. Eng. Chem.* 17, 1925, 715).
     """
-    return h_ref_bar * exp(b_k * (1.0 / temperature_k - 1.0 / HENRY_REFERENCE_K))
+    return h_ref_bar * exp(b_k * (1.0 / temperature_k - 1.0 / t_ref_k))
 
 
 def poynting_factor(liquid_volume_m3_mol: float, pressure_bar: float,
