@@ -131,6 +131,15 @@ def separator_k_values(loop: Loop, liquid_kmol_h: Mapping[str, float] | None = N
     return dict(zip(loop.components, k, strict=True))
 
 
+def separator_liquid_shares(loop: Loop, liquid_kmol_h: Mapping[str, float],
+                            vapour_kmol_h: Mapping[str, float]) -> dict[str, float]:
+    """A phase-equilibrium separator's share of each component leaving in the liquid at a
+    state's flows, 1 / (1 + K V/L) [-] (:func:`purgeplan.physics.separation.liquid_share`)."""
+    k = separator_k_values(loop, liquid_kmol_h, vapour_kmol_h)
+    ratio = sum(vapour_kmol_h.values()) / sum(liquid_kmol_h.values())
+    return {c: separation.liquid_share(k[c], ratio) for c in loop.components}
+
+
 def _fractions(flow: Mapping[str, float], components) -> list[float]:
     total = sum(max(flow[c], 0.0) for c in components)
     return [max(flow[c], 0.0) / total for c in components]

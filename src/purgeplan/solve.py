@@ -370,12 +370,13 @@ def solve_exact_with(loop: Loop, solver_name: str = "scip_direct", **options):
     """The same model with the purge fraction free and exact capital, for a global solver.
 
     Used by the tests to check the reduced-space answer; returns (a, TAC, results).
-    The recycle work and volume coefficients (and a fuel sink's kmol per GJ)
-    are taken converged from the reduced-space solution at the same
-    alternative's optimum.
+    The recycle work and volume coefficients (and a fuel sink's kmol per GJ, a
+    phase-equilibrium separator's liquid shares) are taken converged from the
+    reduced-space solution at the same alternative's optimum.
     """
     import pyomo.environ as pyo
 
+    from .coefficients import separator_liquid_shares
     from .model import build_model
 
     opt = optimise(loop)
@@ -387,6 +388,11 @@ def solve_exact_with(loop: Loop, solver_name: str = "scip_direct", **options):
     if loop.fuel_capacity_gj_h is not None:  # the purge gas's kmol per GJ at the optimum
         q = opt.state.quantities
         m.disposal_kmol_per_gj = q["disposal_kmol_h"] / q["disposal_heat_gj_h"]
+    if loop.separator_model != "split_fractions":
+        flows = opt.state.flows
+        for c, share in separator_liquid_shares(loop, flows["liquid_product"],
+                                                flows["separator_vapour"]).items():
+            m.liquid_share[c] = share
     for i, x in opt.state.conversion.items():
         m.conversion[i].fix(x)
     m.purge_fraction.unfix()
