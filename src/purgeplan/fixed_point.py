@@ -312,6 +312,7 @@ class _Separator:
             return solve(conversion, work, None)
         history: list = []
         low, high = VAPOUR_PER_LIQUID_LOG_RANGE  # the bracket of the root in ln(V/L)
+        sides: dict[bool, tuple] = {}  # the last solve on either side of the root
         x = [conversion[i] for i in sorted(conversion)]
         self._predict(x)
         for _ in range(self.max_steps):
@@ -327,7 +328,14 @@ class _Separator:
             residual = math.log(max(measured, 1e-300)) - u
             if abs(residual) < tolerance:
                 break
+            sides[residual > 0.0] = solved
             low, high = (u, high) if residual > 0.0 else (low, u)
+            if high - low < 1e-12 * max(1.0, abs(u)) and len(sides) == 2:
+                # the LP's optimal vertex jumps at this V/L (two blends cost the same
+                # there): the steady state is the mixture of both that gives this V/L
+                solved, residual = _mixed(sides[True], sides[False], self.ratio), 0.0
+                liquid, vapour = solved[0]["liquid_product"], solved[0]["separator_vapour"]
+                break
             u = secant_step(history, u, residual, self.slope, bounds=(low, high))
             if not low < u < high:  # the secant left the bracket: bisect it
                 u = 0.5 * (low + high)
@@ -349,6 +357,26 @@ class _Separator:
         if self.settled is not None:
             self.ratio = math.exp(self.settled[1])
         self.move = None
+
+
+def _mixed(one: tuple, other: tuple, vapour_per_liquid: float) -> tuple:
+    """The mixture t one + (1 - t) other of two linear solves with the given V/L.
+
+    Both solve the same linear programme (the one at the V/L where its optimal
+    vertex changes), so every mixture meets its equations and limits; V and L
+    are linear in t, so t follows in closed form.
+    """
+    def gap(solved):
+        flows = solved[0]
+        return (sum(flows["separator_vapour"].values())
+                - vapour_per_liquid * sum(flows["liquid_product"].values()))
+    g1, g0 = gap(one), gap(other)
+    t = g0 / (g0 - g1)
+    flows = {s: {c: t * f + (1.0 - t) * other[0][s][c] for c, f in fl.items()}
+             for s, fl in one[0].items()}
+    extents = [t * a + (1.0 - t) * b for a, b in zip(one[1], other[1], strict=True)]
+    sources = {n: t * f + (1.0 - t) * other[2][n] for n, f in one[2].items()}
+    return flows, extents, sources
 
 
 class _SeparatorDiverged(Exception):
