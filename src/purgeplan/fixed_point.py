@@ -36,6 +36,10 @@ from .physics import separation
 LinearSolve = Callable[[dict[int, float], float | None, dict[str, float] | None],
                        tuple | None]
 
+#: Width of the bracket of ln(V/L) within which a residual that stays large on both
+#: sides is taken as a jump of the linear programme's optimal vertex [-]: the two
+#: solves are then mixed, with their separator shares apart by at most this.
+JUMP_WIDTH = 1e-6
 #: Range kept for ln of a separator's vapour-to-liquid ratio while it converges [-].
 VAPOUR_PER_LIQUID_LOG_RANGE = (-30.0, 30.0)
 
@@ -328,12 +332,14 @@ class _Separator:
             residual = math.log(max(measured, 1e-300)) - u
             if abs(residual) < tolerance:
                 break
-            sides[residual > 0.0] = solved
+            sides[residual > 0.0] = solved, abs(residual)
             low, high = (u, high) if residual > 0.0 else (low, u)
-            if high - low < 1e-12 * max(1.0, abs(u)) and len(sides) == 2:
+            width = high - low
+            if len(sides) == 2 and (width < 1e-12 * max(1.0, abs(u)) or (
+                    width < JUMP_WIDTH and min(r for _, r in sides.values()) > 1e3 * width)):
                 # the LP's optimal vertex jumps at this V/L (two blends cost the same
                 # there): the steady state is the mixture of both that gives this V/L
-                solved, residual = _mixed(sides[True], sides[False], self.ratio), 0.0
+                solved, residual = _mixed(sides[True][0], sides[False][0], self.ratio), 0.0
                 liquid, vapour = solved[0]["liquid_product"], solved[0]["separator_vapour"]
                 break
             u = secant_step(history, u, residual, self.slope, bounds=(low, high))
