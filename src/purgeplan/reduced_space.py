@@ -12,9 +12,9 @@ in three steps:
    converged state; otherwise the LP is solved again with them in force;
 3. refresh the capital tangents: with freedom left, each capital line enters
    the LP as its tangent at the current size, moved to the solution until the
-   sizes stop moving (so are a fuel sink's kmol per GJ, a sized reactor's
-   equilibrium conversion and whether the product condenses in the water
-   cooler).
+   sizes stop moving (so are a fuel sink's kmol per GJ, the catalyst volume
+   per feed of a sized reactor or of one sized by its rate, and whether the
+   product condenses in the water cooler).
 
 Route.  An LP with no freedom left (one source per feed group) has a single
 feasible point, so it is solved by the direct engine's linear solve
@@ -251,8 +251,8 @@ class LoopLP:
         return moved
 
     def _refresh_reactor(self, state: LoopState) -> bool:
-        """Step 3 also moves a sized reactor's, or one sized by its rate, catalyst volume
-        per feed to the state's (its equilibrium conversion and inlet composition)."""
+        """Step 3 also moves the catalyst volume per feed of a sized reactor, or of one
+        sized by its rate, to the state's (at its equilibrium conversion and inlet)."""
         if self.loop.sized_reaction is None and self.loop.rate_reaction is None:
             return False
         self.equilibrium = dict(state.equilibrium_conversion)
