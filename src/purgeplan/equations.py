@@ -355,21 +355,21 @@ def water_cooler_condensate_kmol_h(v: LoopVariables, loop: Loop, condenses=None)
     return max(form, 0.0) if condenses is None else condenses * form
 
 
-def water_cooler_duty_kw(v: LoopVariables, loop: Loop, condenses=None):
+def water_cooler_duty_kw(v: LoopVariables, loop: Loop, condensate_kmol_h):
     """Heat taken by cooling water, reactor to water cooler outlet temperature [kW].
 
     The reactor outlet cooled as an ideal gas to the outlet temperature, and
-    the product condensed there (:func:`water_cooler_condensate_kmol_h`) at
-    its enthalpy of vaporisation at that temperature.  All of the separator
-    cooling duty where the water cooler reaches separator temperature.
+    the product condensed there (``condensate_kmol_h``, from
+    :func:`water_cooler_condensate_kmol_h`) at its enthalpy of vaporisation at
+    that temperature.  All of the separator cooling duty where the water
+    cooler reaches separator temperature.
     """
     k = loop.cooling
     if not k.refrigerated:
         return separator_cooling_duty_kw(v, loop)
     sensible = sum(v.flow["reactor_outlet", c] * k.water_sensible_kj_kmol[c]
                    for c in loop.components)
-    latent = water_cooler_condensate_kmol_h(v, loop, condenses) * k.water_latent_kj_kmol
-    return (sensible + latent) * (1.0 / 3600.0)
+    return (sensible + condensate_kmol_h * k.water_latent_kj_kmol) * (1.0 / 3600.0)
 
 
 def _cooling_quantities(v: LoopVariables, loop: Loop, condenses=None) -> dict:
@@ -384,11 +384,12 @@ def _cooling_quantities(v: LoopVariables, loop: Loop, condenses=None) -> dict:
         return {}
     k = loop.cooling
     total = separator_cooling_duty_kw(v, loop)
-    water = water_cooler_duty_kw(v, loop, condenses)
+    condensate = water_cooler_condensate_kmol_h(v, loop, condenses)
+    water = water_cooler_duty_kw(v, loop, condensate)
     cold = total - water if k.refrigerated else 0.0
     power = cold * (1.0 / k.coefficient_of_performance) if k.refrigerated else 0.0
     return {"separator_cooling_duty_kw": total, "water_cooler_duty_kw": water,
-            "water_cooler_condensate_kmol_h": water_cooler_condensate_kmol_h(v, loop, condenses),
+            "water_cooler_condensate_kmol_h": condensate,
             "refrigeration_duty_kw": cold, "refrigeration_power_kw": power,
             "cooling_water_duty_gj_h": (water + cold + power) * (3600.0 / 1e6)}
 

@@ -91,12 +91,12 @@ def loop_limits(loop: Loop) -> tuple[Limit, ...]:
             Limit("purge_fraction_max", "purge_fraction", loop.purge_fraction_max, "max",
                   "design", "the largest purge fraction allowed")]
     k = loop.sized_reaction
-    approach = loop.reactions[k].approach_to_equilibrium_max if k is not None else None
-    if approach is not None:
-        out.append(Limit("max_approach_to_equilibrium", f"per_pass_conversion:{k}", approach,
-                         "max", "state", "the largest approach to equilibrium allowed",
-                         per=f"equilibrium_conversion:{k}", in_model=False))
     if k is not None:
+        approach = loop.reactions[k].approach_to_equilibrium_max
+        if approach is not None:
+            out.append(Limit("max_approach_to_equilibrium", f"per_pass_conversion:{k}", approach,
+                             "max", "state", "the largest approach to equilibrium allowed",
+                             per=f"equilibrium_conversion:{k}", in_model=False))
         lo, hi = loop.reactions[k].conversion_bounds
         out += [Limit("conversion_min", f"per_pass_conversion:{k}", lo, "min",
                       "design", "the smallest per-pass conversion allowed"),

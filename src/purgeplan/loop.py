@@ -64,15 +64,20 @@ class Reaction:
         return -self.stoichiometry[self.key_reactant]
 
     @property
+    def _size_spec(self) -> dict | None:
+        """The table that bounds a sized or rate-based reactor's conversion."""
+        return self.sizing if self.per_pass == "sized" else self.rate
+
+    @property
     def approach_to_equilibrium_max(self) -> float | None:
         """A sized or rate-based reactor's bound on X / X_e, None for none [-]."""
-        spec = self.sizing if self.per_pass == "sized" else self.rate
+        spec = self._size_spec
         return spec.get("approach_to_equilibrium_max") if spec else None
 
     @property
     def conversion_bounds(self) -> tuple[float, float]:
         """The box of a sized or rate-based reactor's per-pass conversion [-]."""
-        spec = self.sizing if self.per_pass == "sized" else self.rate
+        spec = self._size_spec
         return spec["conversion_min"], spec["conversion_max"]
 
 
@@ -145,7 +150,7 @@ class Cooling:
     """The separator's cooling: a water cooler, then refrigeration down to the separator.
 
     Enthalpy changes per kmol of each component [kJ/kmol], fixed by the
-    temperatures (see :func:`purgeplan.build.cooling`):
+    temperatures (see :func:`purgeplan.build.build_loop`):
     ``sensible_kj_kmol`` ideal gas from reactor to separator temperature,
     ``latent_kj_kmol`` enthalpy of vaporisation at separator temperature,
     ``water_sensible_kj_kmol`` ideal gas from reactor temperature to the water
