@@ -224,7 +224,8 @@ WRONG_UNITS = ["_psi", "_pa", "_kpa", "_barg", "_k", "_f", "_kg_h", "_t_h", "_km
                "_g_mol", "_btu", "_months", "_percent", ""]
 MANY_KEYS = ["pressure_bar", "temperature_c", "production_t_d", "purge_fraction", "name",
              "composition", "stoichiometry", "key_reactant", "per_pass", "identifier", "H2",
-             "options", "choices", "value", "makeup_sources", "liquid_fraction"]
+             "options", "choices", "value", "makeup_sources", "liquid_fraction", "model",
+             "henry_constant_bar"]
 
 
 def nodes(doc: Any, path: tuple = ()) -> list[tuple[tuple, Any]]:

@@ -21,6 +21,8 @@ from .case_checks import (
     latent_heats_kj_kmol,
     letdown_release,
     peng_robinson_data,
+    separator_k_values,
+    separator_peng_robinson_data,
 )
 from .coefficients import equilibrium_rhs, gas_compressibility, mixture_heat_capacity_ratio
 from .loop import KELVIN, Capital, Cooling, InletRatio, Loop, Prices, Reaction, Source
@@ -312,4 +314,7 @@ def build_loop(case: Case, name: str = "") -> Loop:
         ratios=tuple(_ratio(case, r) for r in case.loop.inlet_ratio_limits),
         gas_inventory_kmol=_inventory_kmol(case), pump_efficiency=comp_spec.pump_efficiency,
         peng_robinson=real_gas,
-        cooling=_cooling(case, data, condensing))
+        cooling=_cooling(case, data, condensing),
+        separator_model=case.separator.split_model,
+        separator_k_values=separator_k_values(case, data),
+        separator_peng_robinson=separator_peng_robinson_data(case, data))

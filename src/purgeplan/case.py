@@ -169,10 +169,20 @@ class LoopSpec(_Strict):
 
 class SeparatorSpec(_Strict):
     temperature_c: TemperatureC
-    liquid_fraction: dict[Name, Fraction | Literal["condensation"]]
+    liquid_fraction: dict[Name, Fraction | Literal["condensation"]] = {}
     letdown_pressure_bar: PressureBar | None = None
     letdown_destination: Literal["fuel", "flare"] = "fuel"
     cooling: SeparatorCoolingSpec | None = None
+    model: Literal["split_fractions", "henry_raoult", "peng_robinson"] | None = None
+    henry_constant_bar: dict[Name, Positive] = {}
+
+    @property
+    def split_model(self) -> str:
+        """The separator model in force: fixed split fractions where the case gives them
+        and names no model, else the named model, else Henry and Raoult's laws."""
+        if self.model is not None:
+            return self.model
+        return "split_fractions" if self.liquid_fraction else "henry_raoult"
 
 
 class SourceSpec(_Strict):
@@ -609,14 +619,39 @@ def _check_reactor_vessel(case: Case) -> None:
                             "pressure factor (Turton et al. eq. 7.10; vacuum vessels excluded)")
 
 
+def _check_separator_model(case: Case, need: _Need) -> None:
+    """The keys of the phase-equilibrium separator, and those of the fixed split."""
+    sep = case.separator
+    model = sep.split_model
+    if model == "split_fractions" and not sep.liquid_fraction:
+        raise CaseError("separator.liquid_fraction",
+                        "required with model = 'split_fractions': give each component's "
+                        "fraction of the reactor outlet leaving with the liquid")
+    if model != "split_fractions" and sep.liquid_fraction:
+        raise CaseError("separator.liquid_fraction",
+                        f"fixed split fractions do not apply to model = '{model}', whose phase "
+                        "equilibrium sets the split: remove liquid_fraction, or give model = "
+                        "'split_fractions'")
+    if sep.henry_constant_bar and model != "henry_raoult":
+        raise CaseError("separator.henry_constant_bar",
+                        f"Henry constants apply to model = 'henry_raoult' only, not '{model}'")
+    for c in sep.henry_constant_bar:
+        need(f"separator.henry_constant_bar.{_key(c)}", c)
+
+
 def _check_separator(case: Case, need: _Need) -> None:
+    _check_separator_model(case, need)
+    if case.separator.split_model != "split_fractions":
+        return
     split = case.separator.liquid_fraction
     condensing = [c for c, v in split.items() if v == "condensation"]
     for c in split:
         need(f"separator.liquid_fraction.{_key(c)}", c)
     if len(condensing) > 1:
         raise CaseError("separator.liquid_fraction",
-                        f"only one component may condense, found {condensing}")
+                        f"only one component may condense with split fractions, found "
+                        f"{condensing}: for several give model = 'henry_raoult' and no "
+                        "liquid_fraction")
     product = case.loop.product
     if split.get(product, 0.0) == 0.0:
         raise CaseError(f"separator.liquid_fraction.{_key(product)}",

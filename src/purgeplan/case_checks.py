@@ -48,6 +48,8 @@ def check_property_data(case: Case) -> None:
         _check_gillespie_beattie(path, spec)
         _check_fugacity(path, spec, t_reactor, case.loop.pressure_bar)
     condensate_vapour_ratio(case, data)
+    separator_k_values(case, data)
+    peng_robinson_data(case, data)
     letdown_release(case, data)
     peng_robinson_data(case, data)
     if case.separator.cooling is not None:
@@ -190,6 +192,15 @@ def _check_fugacity(path: str, spec: ReactionSpec, temperature_k: float,
 # separator
 
 
+def _check_below_critical(case: Case, condensing: str, tc_k: float) -> None:
+    """The separator must run below the critical temperature of the product it condenses."""
+    t_sep_c = case.separator.temperature_c
+    if t_sep_c >= tc_k - KELVIN:
+        raise CaseError("separator.temperature_c",
+                        f"{t_sep_c:g} degC is not below the critical temperature of "
+                        f"{condensing!r} ({tc_k - KELVIN:.6g} degC): nothing condenses")
+
+
 def condensate_vapour_ratio(case: Case, data: Mapping[str, ComponentData]
                             ) -> tuple[str | None, float]:
     """The condensing component (or None) and its moles per mole of other separator vapour."""
@@ -202,12 +213,8 @@ def condensate_vapour_ratio(case: Case, data: Mapping[str, ComponentData]
         raise CaseError(f"separator.liquid_fraction.{key_part(condensing)}",
                         f"no vapour pressure data for {condensing!r}, so it cannot condense: "
                         "give a split fraction, or an identifier the property library knows")
+    _check_below_critical(case, condensing, coefficients[1])
     t_sep_c = case.separator.temperature_c
-    t_critical_c = coefficients[1] - KELVIN
-    if t_sep_c >= t_critical_c:
-        raise CaseError("separator.temperature_c",
-                        f"{t_sep_c:g} degC is not below the critical temperature of "
-                        f"{condensing!r} ({t_critical_c:.6g} degC): nothing condenses")
     loop = case.loop
     try:
         psat = data[condensing].vapour_pressure_bar(t_sep_c + KELVIN)
@@ -290,19 +297,126 @@ def latent_heats_kj_kmol(case: Case, data: Mapping[str, ComponentData],
     """Enthalpy of vaporisation of every component that leaves with the liquid [kJ/kmol].
 
     DIPPR equation 106 with Perry's coefficients (zero above the critical
-    temperature: a dissolved gas, whose heat of solution is neglected); 0
-    for a component with a zero liquid fraction.  A component in the liquid
-    without data is refused, so the cooling duty never leaves its condensing out.
+    temperature: a dissolved gas, whose heat of solution is neglected).  The
+    components that can condense are those with a liquid fraction above zero
+    (split fractions) or a vapour pressure below their critical temperature
+    (phase equilibrium: Raoult's law); the others dissolve, with 0.  A
+    component that can condense without data is refused, so the cooling
+    duty never leaves its condensing out.
     """
+    if case.separator.split_model == "split_fractions":
+        condensing = {c: f"separator.liquid_fraction.{key_part(c)}"
+                      for c, split in case.separator.liquid_fraction.items() if split != 0.0}
+    else:
+        condensing = {c: f"components.{key_part(c)}" for c in case.components
+                      if data[c].vapour_pressure_coefficients is not None
+                      and temperature_k < data[c].vapour_pressure_coefficients[1]}
     out = {}
-    for c, split in case.separator.liquid_fraction.items():
-        if split == 0.0:
-            continue
+    for c, where in condensing.items():
         h = data[c].vaporisation_enthalpy_j_mol(temperature_k)
         if h is None:
-            raise CaseError(f"separator.liquid_fraction.{key_part(c)}",
-                            f"no enthalpy of vaporisation data for {c!r}, so separator.cooling "
-                            "cannot count the heat of its condensing: give an identifier the "
-                            "property library knows, or leave separator.cooling out")
+            raise CaseError(where, f"no enthalpy of vaporisation data for {c!r}, so "
+                            "separator.cooling cannot count the heat of its condensing: give "
+                            "an identifier the property library knows, or leave "
+                            "separator.cooling out")
         out[c] = h
     return {c: out.get(c, 0.0) for c in case.components}
+
+
+# ---------------------------------------------------------------------------
+# the phase-equilibrium separator
+
+#: CAS numbers of the liquid and the gases of :data:`separation.HENRY_IN_AMMONIA`.
+AMMONIA_CAS = "7664-41-7"
+GAS_CAS = {"1333-74-0": "H2", "7727-37-9": "N2", "7440-37-1": "Ar", "74-82-8": "CH4"}
+
+
+def _separator_conditions(case: Case) -> tuple[float, float]:
+    """Separator temperature [K] and pressure [bar]: loop pressure less the pressure drop."""
+    return (case.separator.temperature_c + KELVIN,
+            case.loop.pressure_bar - case.loop.pressure_drop_bar)
+
+
+def _builtin_henry_bar(case: Case, data: Mapping[str, ComponentData], c: str,
+                       temperature_k: float) -> float | None:
+    """Henry constant of a gas in liquid ammonia from the built-in table, if it has one."""
+    if data[case.loop.product].cas != AMMONIA_CAS or data[c].cas not in GAS_CAS:
+        return None
+    return separation.henry_constant_bar(*separation.HENRY_IN_AMMONIA[GAS_CAS[data[c].cas]],
+                                         temperature_k)
+
+
+def _raoult_k(d: ComponentData, temperature_k: float, pressure_bar: float) -> float | None:
+    """K of a component that condenses (below its critical temperature), else None."""
+    coefficients = d.vapour_pressure_coefficients
+    if coefficients is None or temperature_k >= coefficients[1]:
+        return None
+    psat = d.vapour_pressure_bar(temperature_k)
+    volume = separation.rackett_liquid_volume_m3_mol(
+        temperature_k, coefficients[1], coefficients[2] / 1e5,
+        separation.acentric_factor(d.vapour_pressure_bar(0.7 * coefficients[1]),
+                                   coefficients[2] / 1e5))
+    poynting = separation.poynting_factor(volume, pressure_bar, psat, temperature_k)
+    return separation.raoult_k_value(psat, pressure_bar, poynting)
+
+
+def separator_k_values(case: Case, data: Mapping[str, ComponentData]) -> dict[str, float] | None:
+    """K = y/x of every component in a Henry-Raoult separator [-]; None for another model.
+
+    A gas with a Henry constant (the case's, else the built-in one for gases in
+    liquid ammonia) dissolves by Henry's law; any other component below its
+    critical temperature condenses by Raoult's law (ideal liquid solution,
+    Poynting-corrected).  The product must condense.
+    """
+    sep = case.separator
+    if sep.split_model != "henry_raoult":
+        return None
+    t, p = _separator_conditions(case)
+    product = case.loop.product
+    coefficients = data[product].vapour_pressure_coefficients
+    if product not in sep.henry_constant_bar and coefficients is not None:
+        _check_below_critical(case, product, coefficients[1])
+    out = {}
+    for c in case.components:
+        henry = sep.henry_constant_bar.get(c) or _builtin_henry_bar(case, data, c, t)
+        if henry is not None:
+            out[c] = separation.henry_k_value(henry, p)
+            continue
+        try:
+            k = _raoult_k(data[c], t, p)
+        except (ArithmeticError, ValueError) as exc:
+            raise CaseError("separator.temperature_c", str(exc)) from None
+        if k is None:
+            raise CaseError(f"separator.henry_constant_bar.{key_part(c)}",
+                            f"{c!r} does not condense at {sep.temperature_c:g} degC and no "
+                            "Henry constant is known for it in this liquid: give its Henry "
+                            "constant at separator temperature [bar]")
+        out[c] = k
+    if not out[product] < 1.0:
+        raise CaseError("separator.temperature_c",
+                        f"the product {product!r} does not condense at {sep.temperature_c:g} "
+                        f"degC and {p:g} bar (K = {out[product]:.3g}): cool the separator")
+    return out
+
+
+def separator_peng_robinson_data(case: Case, data: Mapping[str, ComponentData]
+                                 ) -> tuple | None:
+    """Critical constants, acentric factors and stored kij for a Peng-Robinson separator.
+
+    ``(Tc [K], Pc [Pa], omega, kij)`` in the loop's (sorted) component order,
+    the same parameters the compressors' gas model uses
+    (:func:`purgeplan.properties.peng_robinson_parameters`); None for another model.
+    """
+    if case.separator.split_model != "peng_robinson":
+        return None
+    names = tuple(sorted(case.components))  # the order of Loop.components
+    try:
+        constants = peng_robinson_parameters(tuple(data[c].cas for c in names))
+    except LookupError as exc:
+        name = next(c for c in names if data[c].cas == exc.args[0])
+        raise CaseError(f"components.{key_part(name)}.identifier",
+                        "model = 'peng_robinson' needs the critical constants and acentric "
+                        "factor of every component: give an identifier the property "
+                        "library knows, or use model = 'henry_raoult'") from None
+    _check_below_critical(case, case.loop.product, constants[0][names.index(case.loop.product)])
+    return constants

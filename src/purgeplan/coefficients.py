@@ -3,8 +3,9 @@
 The balances of :mod:`purgeplan.equations` are linear once these are fixed:
 the recycle compressor's work per kmol (from the gas's heat-capacity ratio
 and, for a real gas, its compressibility),
-the catalyst volume per kmol/h of reactor feed, and the equilibrium
-conversion of each reaction at the reactor inlet composition.  The inner
+the catalyst volume per kmol/h of reactor feed, the equilibrium
+conversion of each reaction at the reactor inlet composition, and a
+phase-equilibrium separator's K-values.  The inner
 fixed point (:mod:`purgeplan.fixed_point`) converges them.
 """
 
@@ -17,7 +18,7 @@ from functools import partial
 import numpy as np
 
 from .loop import Loop, Reaction
-from .physics import compression, kinetics, reactor, real_gas, thermo
+from .physics import compression, kinetics, reactor, real_gas, separation, thermo
 from .physics import equilibrium as eq
 from .physics.real_gas import PengRobinsonData
 from .properties import ComponentData
@@ -164,3 +165,38 @@ def equilibrium_conversions(loop: Loop, inlet_kmol_h: Mapping[str, float]) -> di
         r = loop.reactions[i]
         out[i] = float(xi[j] * r.key_coefficient / max(inlet_kmol_h[r.key_reactant], 1e-300))
     return out
+
+
+def separator_k_values(loop: Loop, liquid_kmol_h: Mapping[str, float] | None = None,
+                       vapour_kmol_h: Mapping[str, float] | None = None) -> dict[str, float]:
+    """K = y/x of each component in a phase-equilibrium separator [-].
+
+    Henry and Raoult's laws give K-values fixed for the loop (evaluated when it
+    is built).  Peng-Robinson K-values depend on the compositions of the
+    liquid and vapour: they are evaluated at the flows given, and without
+    flows at the start of the inner fixed point, each gas at infinite dilution
+    in the liquid product under a vapour of the first make-up gas.
+    """
+    if loop.separator_k_values is not None:
+        return dict(loop.separator_k_values)
+    t, p = loop.separator_temperature_k, loop.pressure_bar - loop.pressure_drop_bar
+    if liquid_kmol_h is None:
+        liquid_kmol_h = {c: float(c == loop.product) for c in loop.components}
+        vapour_kmol_h = loop.makeup_sources[0].composition
+    x, y = (_fractions(liquid_kmol_h, loop.components), _fractions(vapour_kmol_h, loop.components))
+    k = separation.peng_robinson_k_values(loop.separator_peng_robinson, t, p, x, y)
+    return dict(zip(loop.components, k, strict=True))
+
+
+def separator_liquid_shares(loop: Loop, liquid_kmol_h: Mapping[str, float],
+                            vapour_kmol_h: Mapping[str, float]) -> dict[str, float]:
+    """A phase-equilibrium separator's share of each component leaving in the liquid at a
+    state's flows, 1 / (1 + K V/L) [-] (:func:`purgeplan.physics.separation.liquid_share`)."""
+    k = separator_k_values(loop, liquid_kmol_h, vapour_kmol_h)
+    ratio = sum(vapour_kmol_h.values()) / sum(liquid_kmol_h.values())
+    return {c: separation.liquid_share(k[c], ratio) for c in loop.components}
+
+
+def _fractions(flow: Mapping[str, float], components) -> list[float]:
+    total = sum(max(flow[c], 0.0) for c in components)
+    return [max(flow[c], 0.0) / total for c in components]

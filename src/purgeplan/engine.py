@@ -86,18 +86,30 @@ class Engine:
             self.a_conv.append(ai - a0)
             if np.any(bi != b0) or np.any(b1 != b0):
                 raise AssertionError("loop equations: the constants depend on design variables")
+        #: A phase-equilibrium separator's liquid shares enter as A += sum_c phi_c A_c, kept
+        #: as the nonzero entries (component, row, column, value) of the A_c.
+        self.share_entries = None
+        if loop.separator_model != "split_fractions":
+            zero = [0.0] * n_r
+            stack = np.array([self._matrix(0.0, zero, liquid_share={
+                o: float(o == c) for o in loop.components})[0] - a0 for c in loop.components])
+            k, row, col = np.nonzero(stack)
+            self.share_entries = (k, row, col, stack[k, row, col])
         if a0.shape[0] != a0.shape[1]:
             raise NoSteadyStateError(
                 f"{a0.shape[0]} equations for {a0.shape[1]} unknowns: case validation "
                 "(purgeplan.case_checks) should have refused the loop.inlet_ratios of this case")
 
-    def _vars(self, purge_fraction, conversion):
+    def _vars(self, purge_fraction, conversion, liquid_share=None):
         idx = self.index
         flow = {(s, c): _Lin({idx["flow", s, c]: 1.0})
                 for s in self.loop.streams for c in self.loop.components}
         extent = [_Lin({idx["extent", i]: 1.0}) for i in range(len(self.loop.reactions))]
         source = {s.name: _Lin({idx["source", s.name]: 1.0}) for s in self.loop.sources}
-        return LoopVariables(flow, extent, source, purge_fraction, dict(enumerate(conversion)))
+        if liquid_share is None and self.loop.separator_model != "split_fractions":
+            liquid_share = dict.fromkeys(self.loop.components, 0.0)
+        return LoopVariables(flow, extent, source, purge_fraction, dict(enumerate(conversion)),
+                             liquid_share)
 
     def _share_rows(self):
         """Sources in the same group beyond the first: f_s = share_s sum_group f."""
@@ -106,8 +118,8 @@ class Engine:
             groups.setdefault(s.enters, []).append(s.name)
         return [names for names in groups.values() if len(names) > 1]
 
-    def _matrix(self, purge_fraction, conversion, shares=None):
-        v = self._vars(purge_fraction, conversion)
+    def _matrix(self, purge_fraction, conversion, shares=None, liquid_share=None):
+        v = self._vars(purge_fraction, conversion, liquid_share)
         rows = [res for family in equations.EQUATION_FAMILIES for _, res in family(v, self.loop)]
         n = len(self.keys)
         nrows = len(rows) + sum(len(g) - 1 for g in self.group_rows)
@@ -120,11 +132,20 @@ class Engine:
         self._share_row_start = len(rows)
         return a, b
 
-    def solve(self, purge_fraction: float, conversion, shares: dict[str, float] | None = None):
-        """Flows for the design variables; raises NoSteadyStateError if singular."""
+    def solve(self, purge_fraction: float, conversion, shares: dict[str, float] | None = None,
+              liquid_share: dict[str, float] | None = None):
+        """Flows for the design variables; raises NoSteadyStateError if singular.
+
+        ``liquid_share`` is a phase-equilibrium separator's share of each component
+        leaving in the liquid (see :func:`purgeplan.equations.separator_split`).
+        """
         a = self.a0 + purge_fraction * self.a_purge
         for i, x in enumerate(conversion):
             a += x * self.a_conv[i]
+        if self.share_entries is not None:
+            k, row, col, value = self.share_entries
+            phi = np.array([liquid_share[c] for c in self.loop.components])
+            np.add.at(a, (row, col), phi[k] * value)
         b = self.b0
         row = self._share_row_start
         for names in self.group_rows:
@@ -159,9 +180,9 @@ class Engine:
         """The engine as the linear solve of :func:`purgeplan.fixed_point.converge`."""
         n_r = len(self.loop.reactions)
 
-        def solve(conversion, _work):
+        def solve(conversion, _work, liquid_share=None):
             return self.unpack(self.solve(purge_fraction, [conversion[i] for i in range(n_r)],
-                                          shares))
+                                          shares, liquid_share))
         return solve
 
     def unpack(self, z):

@@ -32,6 +32,9 @@ class LoopVariables:
     source: Mapping
     purge_fraction: object
     conversion: Mapping
+    #: Share of each component of the separator feed leaving in the liquid [-], for a
+    #: phase-equilibrium separator (see :func:`separator_split`); None otherwise.
+    liquid_share: Mapping | None = None
 
 
 def makeup_blend(v: LoopVariables, loop: Loop):
@@ -69,9 +72,18 @@ def reaction_extent(v: LoopVariables, loop: Loop):
 
 
 def separator_split(v: LoopVariables, loop: Loop):
-    """Liquid L_c = s_c S_c; a condensing product: V_p = beta sum_{c != p} V_c; V = S - L."""
+    """Liquid L_c = s_c S_c; a condensing product: V_p = beta sum_{c != p} V_c; V = S - L.
+
+    With a phase-equilibrium separator, y_c = K_c x_c gives
+    L_c = S_c / (1 + K_c V/L) =: phi_c S_c, the share phi_c (``v.liquid_share``)
+    at the K-values and vapour-to-liquid ratio of the inner fixed point
+    (:func:`purgeplan.physics.separation.liquid_share`).
+    """
     for c in loop.components:
-        if c == loop.condensing:
+        if v.liquid_share is not None:
+            yield ("liquid", c), (v.flow["liquid_product", c]
+                                  - v.liquid_share[c] * v.flow["reactor_outlet", c])
+        elif c == loop.condensing:
             others = sum(v.flow["separator_vapour", o] for o in loop.components if o != c)
             yield ("liquid", c), (v.flow["separator_vapour", c]
                                   - loop.condensate_vapour_ratio * others)

@@ -6,21 +6,42 @@ balances are linear once the state-dependent coefficients of
 linear solve (the direct engine, or HiGHS in the reduced space) with a fresh
 evaluation of those coefficients until they stop moving.  An equilibrium
 reactor runs at approach x X_eq(inlet composition), found by a secant step on
-the residual.  Both the direct engine and the optimiser use this one function.
+the residual.  A phase-equilibrium separator splits its feed at K-values and a
+vapour-to-liquid ratio V/L fixed for each linear solve (see
+:func:`purgeplan.equations.separator_split`); at each iterate of the
+conversions V/L is converged by secant steps in ln(V/L), kept inside a
+bracket of the root, on the residual ln V/L(flows) - ln V/L, to a thousandth
+of the conversions' last residual (an inexact inner solve: tight only as the
+conversions settle); composition-dependent K-values then move to those of
+the flows, by successive substitution alongside the conversions.  Each
+iterate starts from V/L moved with the conversions as it moved with them
+over the last iterate, and with the slope of the last secant step.  Both the
+direct engine and the optimiser use this one function.
 """
 
 from __future__ import annotations
 
+import math
 from collections.abc import Callable, Mapping
 from dataclasses import dataclass
 
 from . import coefficients
 from .errors import NoSteadyStateError
 from .loop import KELVIN, Loop
+from .physics import separation
 
-#: A linear solve at fixed conversions and recycle work: flows, extents and
-#: source flows, or None when the solver proves the point infeasible.
-LinearSolve = Callable[[dict[int, float], float | None], tuple | None]
+#: A linear solve at fixed conversions, recycle work and separator liquid shares (None
+#: without a phase-equilibrium separator): flows, extents and source flows, or None
+#: when the solver proves the point infeasible.
+LinearSolve = Callable[[dict[int, float], float | None, dict[str, float] | None],
+                       tuple | None]
+
+#: Width of the bracket of ln(V/L) within which a residual that stays large on both
+#: sides is taken as a jump of the linear programme's optimal vertex [-]: the two
+#: solves are then mixed, with their separator shares apart by at most this.
+JUMP_WIDTH = 1e-6
+#: Range kept for ln of a separator's vapour-to-liquid ratio while it converges [-].
+VAPOUR_PER_LIQUID_LOG_RANGE = (-30.0, 30.0)
 
 
 @dataclass
@@ -35,6 +56,8 @@ class Converged:
     sources: dict[str, float]
     iterations: int
     slopes: dict[int, float]
+    #: A phase-equilibrium separator's vapour-to-liquid ratio V/L [-].
+    vapour_per_liquid: float | None = None
 
 
 def initial_conversions(loop: Loop, given: Mapping[int, float] | None = None) -> dict[int, float]:
@@ -53,13 +76,14 @@ def initial_conversions(loop: Loop, given: Mapping[int, float] | None = None) ->
     return out
 
 
-def secant_step(history: list, x: float, residual: float, slope: float | None = None) -> float:
+def secant_step(history: list, x: float, residual: float, slope: float | None = None,
+                bounds: tuple[float, float] = (1e-9, 0.999999)) -> float:
     """Next iterate of residual(x) = 0 by the secant method over the last two points.
 
     The first step uses ``slope`` (d residual / dx, for instance from a
     neighbouring design point) where given, else the plain fixed-point step
-    x + residual(x).  The iterate is kept inside (1e-9, 0.999999), the range
-    of a conversion.
+    x + residual(x).  The iterate is kept inside ``bounds``, by default
+    (1e-9, 0.999999), the range of a conversion.
     """
     history.append((x, residual))
     if len(history) >= 2 and history[-1][1] != history[-2][1]:
@@ -69,7 +93,7 @@ def secant_step(history: list, x: float, residual: float, slope: float | None = 
         x = x - residual / slope
     else:
         x = x + residual
-    return min(max(x, 1e-9), 0.999999)
+    return min(max(x, bounds[0]), bounds[1])
 
 
 def _slope(history: list) -> float | None:
@@ -83,7 +107,8 @@ def _slope(history: list) -> float | None:
 def converge(loop: Loop, solve: LinearSolve, conversion: Mapping[int, float],
              work_kj_kmol: float | None = None, *, tolerance: float = 1e-13,
              max_iterations: int = 200, work_matters: bool = False,
-             slopes: Mapping[int, float] | None = None) -> Converged | None:
+             slopes: Mapping[int, float] | None = None,
+             vapour_per_liquid: float | None = None) -> Converged | None:
     """Converge per-pass conversions (and recycle work) at fixed design variables.
 
     Parameters
@@ -106,6 +131,9 @@ def converge(loop: Loop, solve: LinearSolve, conversion: Mapping[int, float],
     slopes : mapping, optional
         d(residual)/d(conversion) of each equilibrium reaction for the first
         secant step, as returned in :attr:`Converged.slopes` at a nearby point.
+    vapour_per_liquid : float, optional
+        Starting vapour-to-liquid ratio of a phase-equilibrium separator [-],
+        for instance :attr:`Converged.vapour_per_liquid` at a nearby point.
 
     Returns
     -------
@@ -123,12 +151,19 @@ def converge(loop: Loop, solve: LinearSolve, conversion: Mapping[int, float],
     history: dict[int, list] = {}
     physical_x = None
     too_low: dict[int, float] = {}  # largest conversion seen with no physical steady state
+    separator = _Separator(loop, vapour_per_liquid)
+    change = 1.0
     for iteration in range(1, max_iterations + 1):
-        solved = solve(x, work)
+        try:
+            solved = separator.solve(solve, x, work, max(tolerance, 0.001 * change))
+        except _SeparatorDiverged as exc:
+            if physical_x is None:
+                raise NoSteadyStateError(str(exc)) from None
+            solved = None, None, None
         if solved is None:
             return None
         flows, extents, sources = solved
-        if _negative(flows):
+        if flows is None or _negative(flows):
             if physical_x is None:
                 raise NoSteadyStateError(_unphysical(flows))
             for i in x:
@@ -137,14 +172,16 @@ def converge(loop: Loop, solve: LinearSolve, conversion: Mapping[int, float],
             # an overshooting iterate: step back towards the last physical one
             x = {i: 0.5 * (x[i] + physical_x[i]) for i in x}
             history.clear()
+            separator.step_back()
             continue
         physical_x = dict(x)
+        change = separator.moved
         new_work = coefficients.recycle_work_kj_kmol(
             loop, _composition(flows["separator_vapour"]))
         eq_x = coefficients.equilibrium_conversions(loop, flows["reactor_feed"])
-        change = 0.0
         if work_matters:
-            change = 1.0 if work is None else abs(new_work - work) / max(new_work, 1e-12)
+            change = max(change, 1.0 if work is None
+                         else abs(new_work - work) / max(new_work, 1e-12))
         new_x = dict(x)
         for i, xe in eq_x.items():
             r = loop.reactions[i]
@@ -159,7 +196,8 @@ def converge(loop: Loop, solve: LinearSolve, conversion: Mapping[int, float],
             known = {i: _slope(h) for i, h in history.items()}
             return Converged(x, eq_x, work if work_matters else new_work, flows, extents,
                              sources, iteration,
-                             {i: v for i, v in known.items() if v is not None})
+                             {i: v for i, v in known.items() if v is not None},
+                             separator.ratio)
         x, work = new_x, new_work
     raise NoSteadyStateError("the per-pass conversion did not converge in "
                              f"{max_iterations} fixed-point steps")
@@ -221,3 +259,131 @@ def _composition(flow: Mapping[str, float]) -> dict[str, float]:
     if total <= 0:
         return {c: 1.0 / len(flow) for c in flow}
     return {c: max(f, 0.0) / total for c, f in flow.items()}
+
+
+class _Separator:
+    """The state-dependent split of a phase-equilibrium separator, converged at fixed
+    conversions (see the module docstring); a plain linear solve for a
+    split-fraction separator."""
+
+    max_steps = 100
+
+    def __init__(self, loop: Loop, vapour_per_liquid: float | None):
+        self.active = loop.separator_model != "split_fractions"
+        self.loop = loop
+        self.k = coefficients.separator_k_values(loop) if self.active else None
+        self.ratio = (vapour_per_liquid or 1.0) if self.active else None
+        #: d residual / d ln(V/L) of the last secant step, to start the next [-]; the
+        #: residual falls as V/L rises (the vapour grows less than in proportion).
+        self.slope: float | None = None
+        #: The larger of the V/L residual and the K-values' relative move at the last solve.
+        self.moved = 0.0
+        #: Conversions and ln(V/L) where V/L was last settled, and the move to there.
+        self.settled: tuple[list[float], float] | None = None
+        self.move: tuple[list[float], float] | None = None
+
+    def _predict(self, x: list[float]) -> None:
+        """Move V/L with the conversions as it moved with them last (a secant along the
+        last move of the conversions)."""
+        if self.settled is None or self.move is None:
+            return
+        dx = [a - b for a, b in zip(x, self.settled[0], strict=True)]
+        step, d_log_ratio = self.move
+        norm = sum(d * d for d in step)
+        if norm > 0.0:
+            along = sum(d * e for d, e in zip(dx, step, strict=True)) / norm
+            along = min(max(along, -1.0), 1.0)  # no further than the last move
+            self.ratio = math.exp(min(max(self.settled[1] + along * d_log_ratio,
+                                          VAPOUR_PER_LIQUID_LOG_RANGE[0]),
+                                      VAPOUR_PER_LIQUID_LOG_RANGE[1]))
+
+    def _settle(self, x: list[float]) -> None:
+        log_ratio = math.log(self.ratio)
+        if self.settled is not None:
+            self.move = ([a - b for a, b in zip(x, self.settled[0], strict=True)],
+                         log_ratio - self.settled[1])
+        self.settled = (x, log_ratio)
+
+    def shares(self) -> dict[str, float]:
+        return {c: separation.liquid_share(k, self.ratio) for c, k in self.k.items()}
+
+    def solve(self, solve: LinearSolve, conversion: dict[int, float], work: float | None,
+              tolerance: float):
+        """The linear solve with V/L converged to ``tolerance`` at these conversions and
+        K-values, which then move to those of its flows; :attr:`moved` is the larger
+        of the two moves."""
+        if not self.active:
+            return solve(conversion, work, None)
+        history: list = []
+        low, high = VAPOUR_PER_LIQUID_LOG_RANGE  # the bracket of the root in ln(V/L)
+        sides: dict[bool, tuple] = {}  # the last solve on either side of the root
+        x = [conversion[i] for i in sorted(conversion)]
+        self._predict(x)
+        for _ in range(self.max_steps):
+            try:
+                solved = solve(conversion, work, self.shares())
+            except NoSteadyStateError as exc:
+                raise _SeparatorDiverged(str(exc)) from None
+            if solved is None or _negative(solved[0]):
+                return solved
+            liquid, vapour = solved[0]["liquid_product"], solved[0]["separator_vapour"]
+            measured = sum(vapour.values()) / max(sum(liquid.values()), 1e-300)
+            u = math.log(self.ratio)
+            residual = math.log(max(measured, 1e-300)) - u
+            if abs(residual) < tolerance:
+                break
+            sides[residual > 0.0] = solved, abs(residual)
+            low, high = (u, high) if residual > 0.0 else (low, u)
+            width = high - low
+            if len(sides) == 2 and (width < 1e-12 * max(1.0, abs(u)) or (
+                    width < JUMP_WIDTH and min(r for _, r in sides.values()) > 1e3 * width)):
+                # the LP's optimal vertex jumps at this V/L (two blends cost the same
+                # there): the steady state is the mixture of both that gives this V/L
+                solved, residual = _mixed(sides[True][0], sides[False][0], self.ratio), 0.0
+                liquid, vapour = solved[0]["liquid_product"], solved[0]["separator_vapour"]
+                break
+            u = secant_step(history, u, residual, self.slope, bounds=(low, high))
+            if not low < u < high:  # the secant left the bracket: bisect it
+                u = 0.5 * (low + high)
+            slope = _slope(history)
+            self.slope = slope if slope is not None and slope < 0.0 else self.slope
+            self.ratio = math.exp(u)
+        else:
+            raise _SeparatorDiverged("the separator's vapour-to-liquid ratio did not converge "
+                                     f"in {self.max_steps} steps")
+        self._settle(x)
+        k_new = (self.k if self.loop.separator_k_values is not None
+                 else coefficients.separator_k_values(self.loop, liquid, vapour))
+        self.moved = max([abs(residual)] + [abs(k_new[c] / k - 1.0) for c, k in self.k.items()])
+        self.k = k_new
+        return solved
+
+    def step_back(self) -> None:
+        """Back to the V/L settled last, as the conversions step back to theirs."""
+        if self.settled is not None:
+            self.ratio = math.exp(self.settled[1])
+        self.move = None
+
+
+def _mixed(one: tuple, other: tuple, vapour_per_liquid: float) -> tuple:
+    """The mixture t one + (1 - t) other of two linear solves with the given V/L.
+
+    Both solve the same linear programme (the one at the V/L where its optimal
+    vertex changes), so every mixture meets its equations and limits; V and L
+    are linear in t, so t follows in closed form.
+    """
+    def gap(solved):
+        flows = solved[0]
+        return (sum(flows["separator_vapour"].values())
+                - vapour_per_liquid * sum(flows["liquid_product"].values()))
+    g1, g0 = gap(one), gap(other)
+    t = g0 / (g0 - g1)
+    flows = {s: {c: t * f + (1.0 - t) * other[0][s][c] for c, f in fl.items()}
+             for s, fl in one[0].items()}
+    extents = [t * a + (1.0 - t) * b for a, b in zip(one[1], other[1], strict=True)]
+    sources = {n: t * f + (1.0 - t) * other[2][n] for n, f in one[2].items()}
+    return flows, extents, sources
+
+
+class _SeparatorDiverged(Exception):
+    """No steady state of the separator at these conversions (the outer loop steps back)."""

@@ -223,6 +223,12 @@ class Loop:
     pump_efficiency: float = 0.65
     peng_robinson: PengRobinsonData | None = None   # None: the compressors' gas is ideal
     cooling: Cooling | None = None
+    #: "split_fractions" (``liquid_fraction`` and ``condensing``), "henry_raoult"
+    #: (fixed K-values ``separator_k_values``) or "peng_robinson" (K-values at the
+    #: state from ``separator_peng_robinson``: Tc, Pc, omega, kij in component order).
+    separator_model: str = "split_fractions"
+    separator_k_values: dict[str, float] | None = None
+    separator_peng_robinson: tuple | None = None
 
     @property
     def ratio_limits(self) -> tuple[InletRatio, ...]:

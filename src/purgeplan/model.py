@@ -11,7 +11,8 @@ coefficients change in place between re-solves; a global solver gets them as
 variables (``design="free"``).
 
 Coefficients that depend on the state (recycle work from the gas's heat
-capacity ratio, catalyst volume per feed) are mutable parameters.  With
+capacity ratio, catalyst volume per feed, a phase-equilibrium separator's
+liquid shares ``m.liquid_share``) are mutable parameters.  With
 ``capital="tangent"`` each capital line enters the objective as its tangent
 at a parameter size (the solve layer moves the point of tangency to the
 solution), with ``capital="exact"`` as the capacity-scaling power law.
@@ -169,9 +170,14 @@ def build_model(loop: Loop, capital: str = "tangent", design: str = "fixed"
     # state-dependent coefficients, set by the solve layer before every solve
     m.recycle_work_kj_kmol = pyo.Param(mutable=True, initialize=1000.0)
     m.catalyst_volume_per_feed_m3_h_kmol = pyo.Param(mutable=True, initialize=1.0)
+    share = None
+    if loop.separator_model != "split_fractions":  # a phase-equilibrium separator's split
+        m.liquid_share = pyo.Param(list(loop.components), mutable=True, initialize=0.5)
+        share = m.liquid_share
 
     v = LoopVariables(flow=m.flow, extent=m.extent, source=m.source,
-                      purge_fraction=m.purge_fraction, conversion=m.conversion)
+                      purge_fraction=m.purge_fraction, conversion=m.conversion,
+                      liquid_share=share)
     add_loop_equations(m, loop, v)
     q = quantities(v, loop, m.recycle_work_kj_kmol, m.catalyst_volume_per_feed_m3_h_kmol,
                    fuel_split=add_fuel_sink(m, loop, v),

@@ -93,6 +93,8 @@ class LoopLP:
         self.reactor_inlet: dict[str, float] | None = None
         self.work: float | None = None
         self.slopes: dict[int, float] = {}
+        #: A phase-equilibrium separator's V/L at the state converged last [-].
+        self.vapour_per_liquid: float | None = None
         self.sizes: dict[str, float] = {}
         self.direct_solves = 0
         self.solver_options = solver_options
@@ -136,19 +138,21 @@ class LoopLP:
     def _direct(self, purge_fraction: float):
         solve = engine_for(self.loop).linear_solve(purge_fraction)
 
-        def run(conversion, work):
+        def run(conversion, work, liquid_share=None):
             self._check_time()
             self.direct_solves += 1
-            return solve(conversion, work)
+            return solve(conversion, work, liquid_share)
         return run
 
     def _highs(self, purge_fraction: float):
         m = self.model
         m.purge_fraction = purge_fraction
 
-        def run(conversion, work):
+        def run(conversion, work, liquid_share=None):
             for i, xi in conversion.items():
                 m.conversion[i] = xi
+            for c, share in (liquid_share or {}).items():
+                m.liquid_share[c] = share
             m.recycle_work_kj_kmol = work
             # the LP's reactor capital at the equilibrium and inlet of the state converged
             # last; the state itself is costed at its own (see _state)
@@ -215,10 +219,12 @@ class LoopLP:
         solve = self._highs(purge_fraction) if self.use_highs else self._direct(purge_fraction)
         done = converge(self.loop, solve, x, self.work, tolerance=self.tolerance,
                         max_iterations=self.max_iterations,
-                        work_matters=work_matters and self.use_highs, slopes=self.slopes)
+                        work_matters=work_matters and self.use_highs, slopes=self.slopes,
+                        vapour_per_liquid=self.vapour_per_liquid)
         if done is None:
             return None
         self.slopes.update(done.slopes)
+        self.vapour_per_liquid = done.vapour_per_liquid
         if work_matters:
             self.work = done.recycle_work_kj_kmol
         return self._state(purge_fraction, done)

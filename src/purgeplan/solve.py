@@ -394,11 +394,13 @@ def solve_exact_with(loop: Loop, solver_name: str = "scip_direct", **options):
 
     Used by the tests to check the reduced-space answer; returns (a, TAC, results).
     The recycle work and volume coefficients (and a fuel sink's kmol per GJ,
-    and whether the product condenses in the water cooler) are taken
-    converged from the reduced-space solution at the same alternative's optimum.
+    whether the product condenses in the water cooler, a phase-equilibrium
+    separator's liquid shares) are taken converged from the reduced-space
+    solution at the same alternative's optimum.
     """
     import pyomo.environ as pyo
 
+    from .coefficients import separator_liquid_shares
     from .model import build_model
 
     opt = optimise(loop)
@@ -412,6 +414,11 @@ def solve_exact_with(loop: Loop, solver_name: str = "scip_direct", **options):
         m.disposal_kmol_per_gj = q["disposal_kmol_h"] / q["disposal_heat_gj_h"]
     if hasattr(m, "water_cooler_condenses"):  # condensing in the water cooler at the optimum
         m.water_cooler_condenses = float(opt.state.quantities["water_cooler_condensate_kmol_h"] > 0)
+    if loop.separator_model != "split_fractions":
+        flows = opt.state.flows
+        for c, share in separator_liquid_shares(loop, flows["liquid_product"],
+                                                flows["separator_vapour"]).items():
+            m.liquid_share[c] = share
     for i, x in opt.state.conversion.items():
         m.conversion[i].fix(x)
     m.purge_fraction.unfix()
