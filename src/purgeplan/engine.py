@@ -180,9 +180,9 @@ class Engine:
         """The engine as the linear solve of :func:`purgeplan.fixed_point.converge`."""
         n_r = len(self.loop.reactions)
 
-        def solve(conversion, _work, liquid_share=None):
+        def solve(conversion, _work, point=None):  # V/L held at the point's
             return self.unpack(self.solve(purge_fraction, [conversion[i] for i in range(n_r)],
-                                          shares, liquid_share))
+                                          shares, None if point is None else point.share))
         return solve
 
     def unpack(self, z):

@@ -7,16 +7,20 @@ linear solve (the direct engine, or HiGHS in the reduced space) with a fresh
 evaluation of those coefficients until they stop moving.  An equilibrium
 reactor runs at approach x X_eq(inlet composition), found by a secant step on
 the residual.  A phase-equilibrium separator splits its feed at K-values and a
-vapour-to-liquid ratio V/L fixed for each linear solve (see
-:func:`purgeplan.equations.separator_split`); at each iterate of the
-conversions V/L is converged by secant steps in ln(V/L), kept inside a
-bracket of the root, on the residual ln V/L(flows) - ln V/L, to a thousandth
-of the conversions' last residual (an inexact inner solve: tight only as the
-conversions settle); composition-dependent K-values then move to those of
-the flows, by successive substitution alongside the conversions.  Each
-iterate starts from V/L moved with the conversions as it moved with them
-over the last iterate, and with the slope of the last secant step.  Both the
-direct engine and the optimiser use this one function.
+vapour-to-liquid ratio V/L (see :func:`purgeplan.equations.separator_split`);
+at each iterate of the conversions V/L is converged to a thousandth of the
+conversions' last residual (an inexact inner solve: tight only as the
+conversions settle) on the residual ln V/L(flows) - ln V/L.  The direct
+engine holds V/L fixed in each solve and takes secant steps in ln(V/L), kept
+inside a bracket of the root.  A linear programme, which may choose how the
+loop is fed, gets the split linearised in ln(V/L) about the last solve, so
+that it sees how its choice moves V/L (a choice between make-up gases that
+held V/L fixed would flip as V/L crosses the point where they cost the same);
+its own V/L becomes the next point, in a trust region that halves when the
+step turns back.  Composition-dependent K-values then move to those of the
+flows, by successive substitution alongside the conversions.  Each iterate
+starts from V/L moved with the conversions as it moved with them over the
+last iterate.  Both the direct engine and the optimiser use this one function.
 """
 
 from __future__ import annotations
@@ -30,16 +34,32 @@ from .errors import NoSteadyStateError
 from .loop import KELVIN, Loop
 from .physics import separation
 
-#: A linear solve at fixed conversions, recycle work and separator liquid shares (None
-#: without a phase-equilibrium separator): flows, extents and source flows, or None
-#: when the solver proves the point infeasible.
-LinearSolve = Callable[[dict[int, float], float | None, dict[str, float] | None],
-                       tuple | None]
 
-#: Width of the bracket of ln(V/L) within which a residual that stays large on both
-#: sides is taken as a jump of the linear programme's optimal vertex [-]: the two
-#: solves are then mixed, with their separator shares apart by at most this.
-JUMP_WIDTH = 1e-6
+@dataclass
+class SeparatorPoint:
+    """A phase-equilibrium separator's split for one linear solve.
+
+    ``share[c]`` phi_c at ``log_ratio`` u0 = ln(V/L) [-].  For a linear
+    programme that linearises the split about u0 (see
+    :func:`purgeplan.equations.separator_split`), ``gain[c]`` phi_c (1 - phi_c)
+    S0_c and ``liquid_kmol_h`` L0 at the last solve [kmol/h], and ``trust`` the
+    largest |u - u0| [-]; without ``gain``, V/L is held at u0.
+    """
+
+    share: dict[str, float]
+    log_ratio: float
+    gain: dict[str, float] | None = None
+    liquid_kmol_h: float = 0.0
+    trust: float = 0.0
+
+
+#: A linear solve at fixed conversions, recycle work and separator split (None without
+#: a phase-equilibrium separator): flows, extents and source flows, or None when the
+#: solver proves the point infeasible.
+LinearSolve = Callable[[dict[int, float], float | None, SeparatorPoint | None], tuple | None]
+
+#: Trust region of ln(V/L) in the first step of the successive linear programme [-].
+SPLIT_TRUST_START = 0.5
 #: Range kept for ln of a separator's vapour-to-liquid ratio while it converges [-].
 VAPOUR_PER_LIQUID_LOG_RANGE = (-30.0, 30.0)
 
@@ -108,7 +128,8 @@ def converge(loop: Loop, solve: LinearSolve, conversion: Mapping[int, float],
              work_kj_kmol: float | None = None, *, tolerance: float = 1e-13,
              max_iterations: int = 200, work_matters: bool = False,
              slopes: Mapping[int, float] | None = None,
-             vapour_per_liquid: float | None = None) -> Converged | None:
+             vapour_per_liquid: float | None = None,
+             linearised_split: bool = False) -> Converged | None:
     """Converge per-pass conversions (and recycle work) at fixed design variables.
 
     Parameters
@@ -134,6 +155,9 @@ def converge(loop: Loop, solve: LinearSolve, conversion: Mapping[int, float],
     vapour_per_liquid : float, optional
         Starting vapour-to-liquid ratio of a phase-equilibrium separator [-],
         for instance :attr:`Converged.vapour_per_liquid` at a nearby point.
+    linearised_split : bool
+        Whether ``solve`` takes a phase-equilibrium split linearised in ln(V/L)
+        (a linear programme, see :class:`SeparatorPoint`) rather than at V/L held.
 
     Returns
     -------
@@ -151,7 +175,7 @@ def converge(loop: Loop, solve: LinearSolve, conversion: Mapping[int, float],
     history: dict[int, list] = {}
     physical_x = None
     too_low: dict[int, float] = {}  # largest conversion seen with no physical steady state
-    separator = _Separator(loop, vapour_per_liquid)
+    separator = _Separator(loop, vapour_per_liquid, linearised_split)
     change = 1.0
     for iteration in range(1, max_iterations + 1):
         try:
@@ -162,7 +186,7 @@ def converge(loop: Loop, solve: LinearSolve, conversion: Mapping[int, float],
             solved = None, None, None
         if solved is None:
             return None
-        flows, extents, sources = solved
+        flows, extents, sources = solved[:3]
         if flows is None or _negative(flows):
             if physical_x is None:
                 raise NoSteadyStateError(_unphysical(flows))
@@ -268,9 +292,10 @@ class _Separator:
 
     max_steps = 100
 
-    def __init__(self, loop: Loop, vapour_per_liquid: float | None):
+    def __init__(self, loop: Loop, vapour_per_liquid: float | None, linearised: bool):
         self.active = loop.separator_model != "split_fractions"
         self.loop = loop
+        self.linearised = linearised
         self.k = coefficients.separator_k_values(loop) if self.active else None
         self.ratio = (vapour_per_liquid or 1.0) if self.active else None
         #: d residual / d ln(V/L) of the last secant step, to start the next [-]; the
@@ -281,6 +306,10 @@ class _Separator:
         #: Conversions and ln(V/L) where V/L was last settled, and the move to there.
         self.settled: tuple[list[float], float] | None = None
         self.move: tuple[list[float], float] | None = None
+        #: The separator feed and liquid of the last solve, the point of the next
+        #: linearisation [kmol/h].
+        self.feed: dict[str, float] | None = None
+        self.liquid = 0.0
 
     def _predict(self, x: list[float]) -> None:
         """Move V/L with the conversions as it moved with them last (a secant along the
@@ -304,8 +333,22 @@ class _Separator:
                          log_ratio - self.settled[1])
         self.settled = (x, log_ratio)
 
-    def shares(self) -> dict[str, float]:
-        return {c: separation.liquid_share(k, self.ratio) for c, k in self.k.items()}
+    def _point(self, trust: float | None = None) -> SeparatorPoint:
+        """The split at the current V/L; linearised about the last solve given a trust."""
+        share = {c: separation.liquid_share(k, self.ratio) for c, k in self.k.items()}
+        u0 = math.log(self.ratio)
+        if trust is None or self.feed is None:
+            return SeparatorPoint(share, u0)
+        gain = {c: phi * (1.0 - phi) * max(self.feed[c], 0.0) for c, phi in share.items()}
+        return SeparatorPoint(share, u0, gain, self.liquid, trust)
+
+    def _measure(self, solved) -> float:
+        """ln V/L of a solve's flows, less the V/L it was given; keeps its feed and liquid."""
+        flows = solved[0]
+        self.feed = dict(flows["reactor_outlet"])
+        self.liquid = sum(flows["liquid_product"].values())
+        measured = sum(flows["separator_vapour"].values()) / max(self.liquid, 1e-300)
+        return math.log(max(measured, 1e-300)) - math.log(self.ratio)
 
     def solve(self, solve: LinearSolve, conversion: dict[int, float], work: float | None,
               tolerance: float):
@@ -314,75 +357,112 @@ class _Separator:
         of the two moves."""
         if not self.active:
             return solve(conversion, work, None)
-        history: list = []
-        low, high = VAPOUR_PER_LIQUID_LOG_RANGE  # the bracket of the root in ln(V/L)
-        sides: dict[bool, tuple] = {}  # the last solve on either side of the root
         x = [conversion[i] for i in sorted(conversion)]
         self._predict(x)
+        steps = self._linearised if self.linearised else self._held
+        solved, residual = steps(solve, conversion, work, tolerance)
+        if solved is None or _negative(solved[0]):
+            return solved
+        self._settle(x)
+        flows = solved[0]
+        k_new = (self.k if self.loop.separator_k_values is not None
+                 else coefficients.separator_k_values(self.loop, flows["liquid_product"],
+                                                      flows["separator_vapour"]))
+        self.moved = max([abs(residual)] + [abs(k_new[c] / k - 1.0) for c, k in self.k.items()])
+        self.k = k_new
+        return solved
+
+    def _call(self, solve: LinearSolve, conversion, work, point: SeparatorPoint):
+        try:
+            return solve(conversion, work, point)
+        except NoSteadyStateError as exc:
+            raise _SeparatorDiverged(str(exc)) from None
+
+    def _held(self, solve: LinearSolve, conversion, work, tolerance: float):
+        """Secant steps in ln(V/L) held fixed in each solve, inside a bracket of the root."""
+        history: list = []
+        low, high = VAPOUR_PER_LIQUID_LOG_RANGE  # the bracket of the root in ln(V/L)
         for _ in range(self.max_steps):
-            try:
-                solved = solve(conversion, work, self.shares())
-            except NoSteadyStateError as exc:
-                raise _SeparatorDiverged(str(exc)) from None
+            solved = self._call(solve, conversion, work, self._point())
             if solved is None or _negative(solved[0]):
-                return solved
-            liquid, vapour = solved[0]["liquid_product"], solved[0]["separator_vapour"]
-            measured = sum(vapour.values()) / max(sum(liquid.values()), 1e-300)
+                return solved, None
+            residual = self._measure(solved)
+            if abs(residual) < tolerance or high - low < 1e-12 * max(1.0, abs(low)):
+                return solved, residual
             u = math.log(self.ratio)
-            residual = math.log(max(measured, 1e-300)) - u
-            if abs(residual) < tolerance:
-                break
-            sides[residual > 0.0] = solved, abs(residual)
             low, high = (u, high) if residual > 0.0 else (low, u)
-            width = high - low
-            if len(sides) == 2 and (width < 1e-12 * max(1.0, abs(u)) or (
-                    width < JUMP_WIDTH and min(r for _, r in sides.values()) > 1e3 * width)):
-                # the LP's optimal vertex jumps at this V/L (two blends cost the same
-                # there): the steady state is the mixture of both that gives this V/L
-                solved, residual = _mixed(sides[True][0], sides[False][0], self.ratio), 0.0
-                liquid, vapour = solved[0]["liquid_product"], solved[0]["separator_vapour"]
-                break
             u = secant_step(history, u, residual, self.slope, bounds=(low, high))
             if not low < u < high:  # the secant left the bracket: bisect it
                 u = 0.5 * (low + high)
             slope = _slope(history)
             self.slope = slope if slope is not None and slope < 0.0 else self.slope
             self.ratio = math.exp(u)
-        else:
-            raise _SeparatorDiverged("the separator's vapour-to-liquid ratio did not converge "
-                                     f"in {self.max_steps} steps")
-        self._settle(x)
-        k_new = (self.k if self.loop.separator_k_values is not None
-                 else coefficients.separator_k_values(self.loop, liquid, vapour))
-        self.moved = max([abs(residual)] + [abs(k_new[c] / k - 1.0) for c, k in self.k.items()])
-        self.k = k_new
-        return solved
+        raise _SeparatorDiverged("the separator's vapour-to-liquid ratio did not converge "
+                                 f"in {self.max_steps} steps")
+
+    def _linearised(self, solve: LinearSolve, conversion, work, tolerance: float):
+        """Successive linear programmes with the split linearised about the last solve.
+
+        Where the LP keeps to the edge of the trust region, turning back and forth,
+        the best V/L lies inside it and the LP's choice of feed sets it: V/L is then
+        pinned (a trust region of zero, so that each solve is exact at its V/L) and
+        moved by secant steps, inside a bracket, to where the dual of the trust
+        row, the objective's derivative in ln(V/L), is zero.
+        """
+        trust = SPLIT_TRUST_START
+        last = None  # the last step's own ln(V/L), its residual and its trust row's dual
+        pins: list[tuple[float, float]] = []  # (ln V/L, dual) once V/L is pinned
+        low, high = VAPOUR_PER_LIQUID_LOG_RANGE
+        for _ in range(self.max_steps):
+            point = self._point(0.0 if pins else trust)
+            u0 = point.log_ratio
+            solved = self._call(solve, conversion, work, point)
+            if solved is None and pins:  # no feed meets this V/L: it lies beyond the best
+                low, high = (low, u0) if u0 > pins[-1][0] else (u0, high)
+                self.ratio = math.exp(0.5 * (pins[-1][0] + u0))
+                continue
+            if solved is None and point.gain is not None:  # perhaps the trust region only
+                solved = self._call(solve, conversion, work, self._point(math.inf))
+            if solved is None or _negative(solved[0]):
+                return solved, None
+            residual = self._measure(solved)
+            dual = solved[3] if len(solved) > 3 else None
+            u = u0 + residual  # the LP's own ln(V/L)
+            if pins:
+                if not dual:
+                    return solved, residual
+                low, high = (u0, high) if dual < 0.0 else (low, u0)
+                (ua, da), (ub, db) = pins[-1], (u0, dual)
+                pins.append((u0, dual))
+                step = ub - db * (ub - ua) / (db - da) if db != da else 0.5 * (low + high)
+                if not low < step < high:
+                    step = 0.5 * (low + high)
+                if abs(step - u0) < tolerance:
+                    return solved, residual
+                self.ratio = math.exp(step)
+                continue
+            if abs(residual) < tolerance:
+                return solved, residual
+            if last is not None and residual * last[1] < 0.0:  # the step turned back
+                if dual and last[2] and dual * last[2] < 0.0:
+                    # at the edge both times, pushed either way: pin V/L between the two
+                    pins = [(last[0], last[2])]
+                    low, high = sorted((last[0], u))
+                    step = u - dual * (u - last[0]) / (dual - last[2])
+                    self.ratio = math.exp(step if low < step < high else 0.5 * (low + high))
+                    continue
+                trust = 0.5 * min(trust, abs(residual))
+            last = (u, residual, dual)
+            self.ratio = math.exp(min(max(u, VAPOUR_PER_LIQUID_LOG_RANGE[0]),
+                                      VAPOUR_PER_LIQUID_LOG_RANGE[1]))
+        raise _SeparatorDiverged("the separator's vapour-to-liquid ratio did not converge "
+                                 f"in {self.max_steps} linear programmes")
 
     def step_back(self) -> None:
         """Back to the V/L settled last, as the conversions step back to theirs."""
         if self.settled is not None:
             self.ratio = math.exp(self.settled[1])
         self.move = None
-
-
-def _mixed(one: tuple, other: tuple, vapour_per_liquid: float) -> tuple:
-    """The mixture t one + (1 - t) other of two linear solves with the given V/L.
-
-    Both solve the same linear programme (the one at the V/L where its optimal
-    vertex changes), so every mixture meets its equations and limits; V and L
-    are linear in t, so t follows in closed form.
-    """
-    def gap(solved):
-        flows = solved[0]
-        return (sum(flows["separator_vapour"].values())
-                - vapour_per_liquid * sum(flows["liquid_product"].values()))
-    g1, g0 = gap(one), gap(other)
-    t = g0 / (g0 - g1)
-    flows = {s: {c: t * f + (1.0 - t) * other[0][s][c] for c, f in fl.items()}
-             for s, fl in one[0].items()}
-    extents = [t * a + (1.0 - t) * b for a, b in zip(one[1], other[1], strict=True)]
-    sources = {n: t * f + (1.0 - t) * other[2][n] for n, f in one[2].items()}
-    return flows, extents, sources
 
 
 class _SeparatorDiverged(Exception):

@@ -219,6 +219,15 @@ class PersistentLP:
         highs = self._highs()
         return None if highs is None else float(highs.getInfo().objective_function_value)
 
+    def row_dual(self, constraint) -> float | None:
+        """d objective / d right-hand side of a constraint at HiGHS's last solve, or None
+        where hidden."""
+        highs = self._highs()
+        rows = getattr(self.solver, "_pyomo_con_to_solver_con_map", None)
+        if highs is None or not isinstance(rows, dict) or constraint not in rows:
+            return None
+        return float(highs.getSolution().row_dual[rows[constraint]])
+
     def solve(self) -> Status:
         """Solve the LP as it stands; OPTIMAL (values loaded into the model) or INFEASIBLE.
 

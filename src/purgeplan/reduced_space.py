@@ -41,6 +41,8 @@ from .results import LoopState, costing, make_state
 #: second order in the move, far below the search's tolerance [-].
 TANGENT_TOLERANCE = 1e-6
 
+#: Widest trust region of a phase-equilibrium separator's ln(V/L) in one LP [-].
+SPLIT_TRUST_MAX = 30.0
 ROUTE_DIRECT = "direct linear solve"
 ROUTE_HIGHS = "HiGHS LP"
 
@@ -138,21 +140,21 @@ class LoopLP:
     def _direct(self, purge_fraction: float):
         solve = engine_for(self.loop).linear_solve(purge_fraction)
 
-        def run(conversion, work, liquid_share=None):
+        def run(conversion, work, point=None):
             self._check_time()
             self.direct_solves += 1
-            return solve(conversion, work, liquid_share)
+            return solve(conversion, work, point)
         return run
 
     def _highs(self, purge_fraction: float):
         m = self.model
         m.purge_fraction = purge_fraction
 
-        def run(conversion, work, liquid_share=None):
+        def run(conversion, work, point=None):
             for i, xi in conversion.items():
                 m.conversion[i] = xi
-            for c, share in (liquid_share or {}).items():
-                m.liquid_share[c] = share
+            if point is not None:
+                self._set_split(point)
             m.recycle_work_kj_kmol = work
             # the LP's reactor capital at the equilibrium and inlet of the state converged
             # last; the state itself is costed at its own (see _state)
@@ -167,8 +169,23 @@ class LoopLP:
             m.catalyst_volume_per_feed_m3_h_kmol = volume
             if self.lp.solve() is Status.INFEASIBLE:
                 return None
-            return self._read()
+            if point is None or point.gain is None:
+                return self._read()
+            return (*self._read(), self.lp.row_dual(m.split_trust))
         return run
+
+    def _set_split(self, point) -> None:
+        """A phase-equilibrium separator's split, linearised in ln(V/L) about the point
+        (see :func:`purgeplan.equations.separator_split`), V/L held without gains."""
+        m = self.model
+        for c, share in point.share.items():
+            m.liquid_share[c] = share
+            m.liquid_share_gain[c] = 0.0 if point.gain is None else point.gain[c]
+        m.log_vapour_per_liquid0 = point.log_ratio
+        m.vapour_per_liquid0 = math.exp(point.log_ratio)
+        m.separator_liquid0 = point.liquid_kmol_h
+        m.split_coupled = 0.0 if point.gain is None else 1.0
+        m.split_trust_width = 1.0 if point.gain is None else min(point.trust, SPLIT_TRUST_MAX)
 
     def _check_time(self) -> None:
         if self.time_limit_s is not None and \
@@ -220,7 +237,8 @@ class LoopLP:
         done = converge(self.loop, solve, x, self.work, tolerance=self.tolerance,
                         max_iterations=self.max_iterations,
                         work_matters=work_matters and self.use_highs, slopes=self.slopes,
-                        vapour_per_liquid=self.vapour_per_liquid)
+                        vapour_per_liquid=self.vapour_per_liquid,
+                        linearised_split=self.use_highs)
         if done is None:
             return None
         self.slopes.update(done.slopes)
