@@ -36,11 +36,9 @@ def _median_time(loop_factory, **kwargs):
 
 
 def _blend_case(raw: dict):
-    """The demo's standard grade with a supply limit that binds, the purified grade beside it,
-    and nitrogen to hold H2/N2 = 3 at the reactor inlet (both grades are 3:1 and the
-    separator liquid dissolves more N2 than H2, so without it the ratio drifts above 3)."""
+    """The demo's standard grade with a supply limit that binds, the purified grade beside it."""
     raw = {k: v for k, v in raw.items() if k not in ("options", "alternatives", "exclude")}
-    raw["makeup_sources"] = ["standard", "purified", "nitrogen"]
+    raw["makeup_sources"] = ["standard", "purified"]
     raw["sources"]["standard"]["supply_limit_kmol_h"] = 5000.0
     return validate_case_dict(raw)
 

@@ -101,8 +101,11 @@ def random_loops(draw):
     runs short of H2 for the set conversion of N2.  Recovery returns stay below 1 so
     every inert has an outlet when the purge is open.  An inert is declared only when
     the make-up carries it.  A condensing product needs a cold separator at high
-    pressure: otherwise the purged vapour can carry more NH3 than the reactor makes and
-    no liquid forms (see test_separator_that_cannot_condense_the_product).
+    pressure and a purge of at most a fifth of the vapour: otherwise the purged vapour
+    can carry more NH3 than the reactor makes and no liquid forms (see
+    test_separator_that_cannot_condense_the_product; a purge of a fifth of the vapour
+    with a recovery unit returning 94 % of the hydrogen and none of the nitrogen was
+    seen to do so at 150 bar and -10 degC).
     """
     x = draw(st.floats(0.05, 0.6))
     a = draw(st.floats(1e-3, 0.5))
@@ -119,6 +122,7 @@ def random_loops(draw):
     condensing = draw(st.booleans())
     if condensing:
         liquid["NH3"] = "condensation"
+        a = min(a, 0.2)
         pressure_bar = draw(st.floats(150.0, 300.0))
         separator_c = draw(st.floats(-30.0, -10.0))
     else:
@@ -127,7 +131,10 @@ def random_loops(draw):
         separator_c = draw(st.floats(-20.0, 20.0))
     recovery = None
     if draw(st.booleans()):
-        rho_h2 = draw(st.floats(0.0, 0.95))
+        # returning most of the hydrogen and little nitrogen dilutes the nitrogen at the
+        # reactor inlet, so that, with a condensing product, the reactor makes less NH3
+        # than the purged vapour carries: at most half the hydrogen then
+        rho_h2 = draw(st.floats(0.0, 0.5 if condensing else 0.95))
         recovery = {"H2": rho_h2, "N2": rho_h2 * draw(st.floats(0.0, 1.0)),
                     "NH3": draw(st.floats(0.0, 0.9))}
         recovery.update({name: draw(st.floats(0.0, 0.9)) for name in inerts})

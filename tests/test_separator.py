@@ -1,6 +1,6 @@
 """The phase-equilibrium separator against published data, its balances and its cases.
 
-Sources (docs/references.md section 15): the ammonia content of 3:1 H2/N2 gas
+Sources (docs/references.md section 17): the ammonia content of 3:1 H2/N2 gas
 over liquid ammonia from the Larson and Black measurements as correlated
 (from memory); Larson and Black (1925, seen) on the solubility of 3:1 H2/N2 in
 liquid ammonia: it follows Henry's law from 50 to 150 atm and more than
@@ -133,7 +133,7 @@ def test_implied_henry_constant_does_not_move_with_circulation():
 def test_argon_and_methane_dissolve_as_the_published_equilibrium_data():
     """At 253.2 K and 175 atm in the separator, the loop's argon and methane leave with
     P y = 7700 x and 3600 x atm: the equilibrium data of a textbook problem on absorbing
-    them into liquid ammonia (docs/references.md section 15; the built-in constants
+    them into liquid ammonia (docs/references.md section 17; the built-in constants
     are these, so this checks their units and the separator conditions they are
     evaluated at)."""
     p_atm = 175.0
@@ -309,3 +309,56 @@ def test_the_separator_converges_from_small_to_large_purge(model, purge_fraction
     k = coefficients.separator_k_values(loop, f["liquid_product"], f["separator_vapour"])
     for c in loop.components:
         assert y[c] == pytest.approx(k[c] * x[c], rel=1e-8), c
+
+
+def _demo_blend(name: str):
+    """An alternative of the ammonia demo with its separator by Henry's and Raoult's laws."""
+    from purgeplan.cli import data_file
+
+    text = data_file("cases", "ammonia_demo.toml").read_text()
+    old = next(line for line in text.splitlines() if line.startswith("liquid_fraction = "))
+    case = purgeplan.parse_case_text(text.replace(old, 'model = "henry_raoult"'))
+    label, _, alt = next(a for a in purgeplan.expand_alternatives(case) if a[0] == name)
+    return purgeplan.build_loop(alt, label)
+
+
+def test_a_blend_held_at_its_vapour_to_liquid_ratio_is_an_exact_steady_state(monkeypatch):
+    """With a blend of make-up gases the LP's cheapest gas changes as V/L crosses the ratio
+    where two gases cost the same; the inner fixed point then has the LP hold V/L there
+    and mix them (see purgeplan.fixed_point).  Every such state met while the demo's
+    blend alternative is optimised is a steady state in its own right: the direct
+    engine, given its conversions, its shares of the sources and its purge fraction,
+    solves the same flows, and every component leaves at y = K x."""
+    from purgeplan import coefficients, fixed_point
+
+    held = []
+    hold = fixed_point._Separator._hold
+
+    def recording(self, solve, conversion, work, *args, **kwargs):
+        done = hold(self, solve, conversion, work, *args, **kwargs)
+        if done is not None and done[0] is not None:
+            held.append((dict(conversion), done[0]))
+        return done
+
+    monkeypatch.setattr(fixed_point._Separator, "_hold", recording)
+    loop = _demo_blend("makeup_grade=blend, purge_destination=flare, recovery=adsorption")
+    opt = purgeplan.optimise(loop)
+    assert opt.feasible, opt.message
+    mixed = [(x, solved) for x, solved in held if min(solved[2]["standard"],
+                                                      solved[2]["purified"]) > 1.0]
+    assert len(mixed) >= 10  # measured: 225 of 226 held states
+    engine = purgeplan.engine.engine_for(loop)
+    for conversion, (flows, _, sources, _) in mixed[::max(1, len(mixed) // 10)]:
+        total = sum(sources.values())
+        shares = {n: f / total for n, f in sources.items()}
+        vapour, liquid = flows["separator_vapour"], flows["liquid_product"]
+        ratio = sum(vapour.values()) / sum(liquid.values())
+        k = coefficients.separator_k_values(loop, liquid, vapour)
+        split = fixed_point.SeparatorPoint(
+            {c: separation.liquid_share(k[c], ratio) for c in loop.components},
+            math.log(ratio))
+        purge = flows["purge"]["H2"] / vapour["H2"]
+        again = engine.linear_solve(purge, shares)(conversion, None, split)[0]
+        for stream, flow in flows.items():
+            for c, f in flow.items():
+                assert again[stream][c] == pytest.approx(f, rel=1e-6, abs=1e-6), (stream, c)

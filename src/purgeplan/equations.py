@@ -35,28 +35,9 @@ class LoopVariables:
     #: Share of each component of the separator feed leaving in the liquid [-], for a
     #: phase-equilibrium separator (see :func:`separator_split`); None otherwise.
     liquid_share: Mapping | None = None
-    #: With ``liquid_share``, the split linearised in ln(V/L) about the point where the
-    #: shares were taken (see :func:`separator_split`); None holds V/L there.
-    split_point: SplitPoint | None = None
-
-
-@dataclass
-class SplitPoint:
-    """A phase-equilibrium separator's split linearised in u = ln(V/L) about u0.
-
-    ``log_ratio`` the unknown u [-]; ``log_ratio0`` u0 [-] and ``ratio0`` exp(u0)
-    [-]; ``liquid0`` the total liquid L0 [kmol/h] and ``gain[c]`` phi_c (1 - phi_c)
-    S0_c [kmol/h] at the point (S0 the separator feed there); ``coupled`` 1, or 0
-    to leave V/L at the shares' own (no gains, no V/L equation).  Each a number,
-    a parameter or a variable.
-    """
-
-    log_ratio: object
-    log_ratio0: object
-    ratio0: object
-    liquid0: object
-    gain: Mapping
-    coupled: object = 1.0
+    #: With ``liquid_share``, a weight (1, or 0 for none) and a ratio R of a held
+    #: vapour-to-liquid ratio V = R L (see :func:`separator_split`); None for none.
+    held_vapour_per_liquid: tuple | None = None
 
 
 def makeup_blend(v: LoopVariables, loop: Loop):
@@ -99,24 +80,15 @@ def separator_split(v: LoopVariables, loop: Loop):
     With a phase-equilibrium separator, y_c = K_c x_c gives
     L_c = S_c / (1 + K_c V/L) =: phi_c S_c, the share phi_c (``v.liquid_share``)
     at the K-values and vapour-to-liquid ratio of the inner fixed point
-    (:func:`purgeplan.physics.separation.liquid_share`).  With a split point
-    (``v.split_point``) the ratio u = ln(V/L) is an unknown and both L_c = phi_c(u)
-    S_c and V = e^u L enter to first order about the point (u0, S0, L0), with
-    d phi_c / du = -phi_c (1 - phi_c):
-
-        L_c = phi_c S_c - phi_c (1 - phi_c) S0_c (u - u0),
-        V = e^u0 L + e^u0 L0 (u - u0),
-
-    exact at the point itself, so that a linear programme sees how its choices
-    move V/L (a successive linear programme converges the point).
+    (:func:`purgeplan.physics.separation.liquid_share`).  A linear programme
+    may also hold V = R L at the ratio R the shares were taken at
+    (``v.held_vapour_per_liquid``): its choice of feed then meets the split
+    exactly (see :mod:`purgeplan.fixed_point`).
     """
-    p = v.split_point
     for c in loop.components:
         if v.liquid_share is not None:
-            liquid = v.liquid_share[c] * v.flow["reactor_outlet", c]
-            if p is not None:
-                liquid = liquid - p.gain[c] * (p.log_ratio - p.log_ratio0)
-            yield ("liquid", c), v.flow["liquid_product", c] - liquid
+            yield ("liquid", c), (v.flow["liquid_product", c]
+                                  - v.liquid_share[c] * v.flow["reactor_outlet", c])
         elif c == loop.condensing:
             others = sum(v.flow["separator_vapour", o] for o in loop.components if o != c)
             yield ("liquid", c), (v.flow["separator_vapour", c]
@@ -126,11 +98,11 @@ def separator_split(v: LoopVariables, loop: Loop):
                                   - loop.liquid_fraction[c] * v.flow["reactor_outlet", c])
         yield ("vapour", c), (v.flow["separator_vapour", c] - v.flow["reactor_outlet", c]
                               + v.flow["liquid_product", c])
-    if v.liquid_share is not None and p is not None:
-        vapour = sum(v.flow["separator_vapour", c] for c in loop.components)
-        liquid = sum(v.flow["liquid_product", c] for c in loop.components)
-        yield "vapour_per_liquid", p.coupled * (
-            vapour - p.ratio0 * liquid - p.ratio0 * p.liquid0 * (p.log_ratio - p.log_ratio0))
+    if v.liquid_share is not None and v.held_vapour_per_liquid is not None:
+        weight, ratio = v.held_vapour_per_liquid
+        yield "vapour_per_liquid", weight * sum(
+            v.flow["separator_vapour", c] - ratio * v.flow["liquid_product", c]
+            for c in loop.components)
 
 
 def purge_split(v: LoopVariables, loop: Loop):

@@ -7,20 +7,22 @@ linear solve (the direct engine, or HiGHS in the reduced space) with a fresh
 evaluation of those coefficients until they stop moving.  An equilibrium
 reactor runs at approach x X_eq(inlet composition), found by a secant step on
 the residual.  A phase-equilibrium separator splits its feed at K-values and a
-vapour-to-liquid ratio V/L (see :func:`purgeplan.equations.separator_split`);
-at each iterate of the conversions V/L is converged to a thousandth of the
-conversions' last residual (an inexact inner solve: tight only as the
-conversions settle) on the residual ln V/L(flows) - ln V/L.  The direct
-engine holds V/L fixed in each solve and takes secant steps in ln(V/L), kept
-inside a bracket of the root.  A linear programme, which may choose how the
-loop is fed, gets the split linearised in ln(V/L) about the last solve, so
-that it sees how its choice moves V/L (a choice between make-up gases that
-held V/L fixed would flip as V/L crosses the point where they cost the same);
-its own V/L becomes the next point, in a trust region that halves when the
-step turns back.  Composition-dependent K-values then move to those of the
+vapour-to-liquid ratio V/L fixed for each linear solve (see
+:func:`purgeplan.equations.separator_split`); at each iterate of the
+conversions V/L is converged by secant steps in ln(V/L), kept inside a
+bracket of the root, on the residual ln V/L(flows) - ln V/L, to a thousandth
+of the conversions' last residual (an inexact inner solve: tight only as the
+conversions settle).  A linear programme that chooses how the loop is fed may
+jump between feeds as V/L crosses the ratio where they cost the same: the
+residual then changes sign without passing through zero.  There the steady
+state is the mixture of the feeds that gives that ratio, and the LP finds it
+when it holds V = R L itself: the dual of that row, which changes sign where
+the feeds cost the same, is taken to zero by secant steps in ln R, each solve
+exact at its R.  Composition-dependent K-values then move to those of the
 flows, by successive substitution alongside the conversions.  Each iterate
 starts from V/L moved with the conversions as it moved with them over the
-last iterate.  Both the direct engine and the optimiser use this one function.
+last iterate, and with the slope of the last secant step.  Both the direct
+engine and the optimiser use this one function.
 """
 
 from __future__ import annotations
@@ -37,29 +39,20 @@ from .physics import separation
 
 @dataclass
 class SeparatorPoint:
-    """A phase-equilibrium separator's split for one linear solve.
-
-    ``share[c]`` phi_c at ``log_ratio`` u0 = ln(V/L) [-].  For a linear
-    programme that linearises the split about u0 (see
-    :func:`purgeplan.equations.separator_split`), ``gain[c]`` phi_c (1 - phi_c)
-    S0_c and ``liquid_kmol_h`` L0 at the last solve [kmol/h], and ``trust`` the
-    largest |u - u0| [-]; without ``gain``, V/L is held at u0.
-    """
+    """A phase-equilibrium separator's split for one linear solve: the liquid share
+    ``share[c]`` of each component at ``log_ratio`` ln(V/L) [-], and whether a
+    linear programme is to hold V/L there (``held``)."""
 
     share: dict[str, float]
     log_ratio: float
-    gain: dict[str, float] | None = None
-    liquid_kmol_h: float = 0.0
-    trust: float = 0.0
+    held: bool = False
 
 
 #: A linear solve at fixed conversions, recycle work and separator split (None without
-#: a phase-equilibrium separator): flows, extents and source flows, or None when the
-#: solver proves the point infeasible.
+#: a phase-equilibrium separator): flows, extents and source flows, with V/L held also
+#: the dual of that row, or None when the solver proves the point infeasible.
 LinearSolve = Callable[[dict[int, float], float | None, SeparatorPoint | None], tuple | None]
 
-#: Trust region of ln(V/L) in the first step of the successive linear programme [-].
-SPLIT_TRUST_START = 0.5
 #: Range kept for ln of a separator's vapour-to-liquid ratio while it converges [-].
 VAPOUR_PER_LIQUID_LOG_RANGE = (-30.0, 30.0)
 
@@ -129,7 +122,7 @@ def converge(loop: Loop, solve: LinearSolve, conversion: Mapping[int, float],
              max_iterations: int = 200, work_matters: bool = False,
              slopes: Mapping[int, float] | None = None,
              vapour_per_liquid: float | None = None,
-             linearised_split: bool = False) -> Converged | None:
+             hold_vapour_per_liquid: bool = False) -> Converged | None:
     """Converge per-pass conversions (and recycle work) at fixed design variables.
 
     Parameters
@@ -155,9 +148,9 @@ def converge(loop: Loop, solve: LinearSolve, conversion: Mapping[int, float],
     vapour_per_liquid : float, optional
         Starting vapour-to-liquid ratio of a phase-equilibrium separator [-],
         for instance :attr:`Converged.vapour_per_liquid` at a nearby point.
-    linearised_split : bool
-        Whether ``solve`` takes a phase-equilibrium split linearised in ln(V/L)
-        (a linear programme, see :class:`SeparatorPoint`) rather than at V/L held.
+    hold_vapour_per_liquid : bool
+        Whether ``solve`` can hold a phase-equilibrium separator's V/L (a linear
+        programme, see :class:`SeparatorPoint`).
 
     Returns
     -------
@@ -175,7 +168,7 @@ def converge(loop: Loop, solve: LinearSolve, conversion: Mapping[int, float],
     history: dict[int, list] = {}
     physical_x = None
     too_low: dict[int, float] = {}  # largest conversion seen with no physical steady state
-    separator = _Separator(loop, vapour_per_liquid, linearised_split)
+    separator = _Separator(loop, vapour_per_liquid, hold_vapour_per_liquid)
     change = 1.0
     for iteration in range(1, max_iterations + 1):
         try:
@@ -292,10 +285,10 @@ class _Separator:
 
     max_steps = 100
 
-    def __init__(self, loop: Loop, vapour_per_liquid: float | None, linearised: bool):
+    def __init__(self, loop: Loop, vapour_per_liquid: float | None, can_hold: bool):
         self.active = loop.separator_model != "split_fractions"
         self.loop = loop
-        self.linearised = linearised
+        self.can_hold = can_hold
         self.k = coefficients.separator_k_values(loop) if self.active else None
         self.ratio = (vapour_per_liquid or 1.0) if self.active else None
         #: d residual / d ln(V/L) of the last secant step, to start the next [-]; the
@@ -306,10 +299,8 @@ class _Separator:
         #: Conversions and ln(V/L) where V/L was last settled, and the move to there.
         self.settled: tuple[list[float], float] | None = None
         self.move: tuple[list[float], float] | None = None
-        #: The separator feed and liquid of the last solve, the point of the next
-        #: linearisation [kmol/h].
-        self.feed: dict[str, float] | None = None
-        self.liquid = 0.0
+        #: d dual / d ln R where V/L was last held at a jump [-], to hold it at once next.
+        self.tie_slope: float | None = None
 
     def _predict(self, x: list[float]) -> None:
         """Move V/L with the conversions as it moved with them last (a secant along the
@@ -333,22 +324,12 @@ class _Separator:
                          log_ratio - self.settled[1])
         self.settled = (x, log_ratio)
 
-    def _point(self, trust: float | None = None) -> SeparatorPoint:
-        """The split at the current V/L; linearised about the last solve given a trust."""
+    def _call(self, solve: LinearSolve, conversion, work, held: bool = False):
         share = {c: separation.liquid_share(k, self.ratio) for c, k in self.k.items()}
-        u0 = math.log(self.ratio)
-        if trust is None or self.feed is None:
-            return SeparatorPoint(share, u0)
-        gain = {c: phi * (1.0 - phi) * max(self.feed[c], 0.0) for c, phi in share.items()}
-        return SeparatorPoint(share, u0, gain, self.liquid, trust)
-
-    def _measure(self, solved) -> float:
-        """ln V/L of a solve's flows, less the V/L it was given; keeps its feed and liquid."""
-        flows = solved[0]
-        self.feed = dict(flows["reactor_outlet"])
-        self.liquid = sum(flows["liquid_product"].values())
-        measured = sum(flows["separator_vapour"].values()) / max(self.liquid, 1e-300)
-        return math.log(max(measured, 1e-300)) - math.log(self.ratio)
+        try:
+            return solve(conversion, work, SeparatorPoint(share, math.log(self.ratio), held))
+        except NoSteadyStateError as exc:
+            raise _SeparatorDiverged(str(exc)) from None
 
     def solve(self, solve: LinearSolve, conversion: dict[int, float], work: float | None,
               tolerance: float):
@@ -357,12 +338,49 @@ class _Separator:
         of the two moves."""
         if not self.active:
             return solve(conversion, work, None)
+        history: list = []
+        low, high = VAPOUR_PER_LIQUID_LOG_RANGE  # the bracket of the root in ln(V/L)
+        sides: dict[bool, list] = {True: [], False: []}  # (ln V/L, |residual|) either side
         x = [conversion[i] for i in sorted(conversion)]
         self._predict(x)
-        steps = self._linearised if self.linearised else self._held
-        solved, residual = steps(solve, conversion, work, tolerance)
-        if solved is None or _negative(solved[0]):
-            return solved
+        held = None
+        if self.can_hold and self.tie_slope is not None:  # a jump at the last solve
+            held = self._hold(solve, conversion, work, tolerance, *VAPOUR_PER_LIQUID_LOG_RANGE,
+                              start=math.log(self.ratio))
+            if held is None:
+                self.tie_slope = None
+        if held is not None:
+            solved, residual = held
+            if solved is None or _negative(solved[0]):
+                return solved
+        for _ in range(0 if held is not None else self.max_steps):
+            solved = self._call(solve, conversion, work)
+            if solved is None or _negative(solved[0]):
+                return solved
+            residual = _log_ratio(solved[0]) - math.log(self.ratio)
+            if abs(residual) < tolerance:
+                break
+            u = math.log(self.ratio)
+            sides[residual > 0.0].append((u, abs(residual)))
+            low, high = (u, high) if residual > 0.0 else (low, u)
+            if self.can_hold and _jump(sides[True], sides[False]):
+                self.tie_slope = None
+                solved, residual = self._hold(solve, conversion, work, tolerance, low, high)
+                if solved is None or _negative(solved[0]):
+                    return solved
+                break
+            if high - low < 1e-12 * max(1.0, abs(u)):
+                break
+            u = secant_step(history, u, residual, self.slope, bounds=(low, high))
+            if not low < u < high:  # the secant left the bracket: bisect it
+                u = 0.5 * (low + high)
+            slope = _slope(history)
+            self.slope = slope if slope is not None and slope < 0.0 else self.slope
+            self.ratio = math.exp(u)
+        else:
+            if held is None:
+                raise _SeparatorDiverged("the separator's vapour-to-liquid ratio did not "
+                                         f"converge in {self.max_steps} steps")
         self._settle(x)
         flows = solved[0]
         k_new = (self.k if self.loop.separator_k_values is not None
@@ -372,97 +390,80 @@ class _Separator:
         self.k = k_new
         return solved
 
-    def _call(self, solve: LinearSolve, conversion, work, point: SeparatorPoint):
-        try:
-            return solve(conversion, work, point)
-        except NoSteadyStateError as exc:
-            raise _SeparatorDiverged(str(exc)) from None
-
-    def _held(self, solve: LinearSolve, conversion, work, tolerance: float):
-        """Secant steps in ln(V/L) held fixed in each solve, inside a bracket of the root."""
-        history: list = []
-        low, high = VAPOUR_PER_LIQUID_LOG_RANGE  # the bracket of the root in ln(V/L)
+    def _hold(self, solve: LinearSolve, conversion, work, tolerance: float,
+              low: float, high: float, start: float | None = None):
+        """The LP holding V = R L, ln R moved until the dual of that row is zero (see the
+        module docstring): from the middle of a bracket (low, high) of a jump, or from
+        ``start`` with the slope the dual had at the last jump.  Returns (solve,
+        residual), (None, None) where the LP proves the loop infeasible, or None where
+        the dual keeps one sign to the bracket's edge (no jump here)."""
+        u = 0.5 * (low + high) if start is None else start
+        last, slope, signs = None, self.tie_slope, set()
         for _ in range(self.max_steps):
-            solved = self._call(solve, conversion, work, self._point())
-            if solved is None or _negative(solved[0]):
-                return solved, None
-            residual = self._measure(solved)
-            if abs(residual) < tolerance or high - low < 1e-12 * max(1.0, abs(low)):
-                return solved, residual
-            u = math.log(self.ratio)
-            low, high = (u, high) if residual > 0.0 else (low, u)
-            u = secant_step(history, u, residual, self.slope, bounds=(low, high))
-            if not low < u < high:  # the secant left the bracket: bisect it
-                u = 0.5 * (low + high)
-            slope = _slope(history)
-            self.slope = slope if slope is not None and slope < 0.0 else self.slope
             self.ratio = math.exp(u)
-        raise _SeparatorDiverged("the separator's vapour-to-liquid ratio did not converge "
-                                 f"in {self.max_steps} steps")
-
-    def _linearised(self, solve: LinearSolve, conversion, work, tolerance: float):
-        """Successive linear programmes with the split linearised about the last solve.
-
-        Where the LP keeps to the edge of the trust region, turning back and forth,
-        the best V/L lies inside it and the LP's choice of feed sets it: V/L is then
-        pinned (a trust region of zero, so that each solve is exact at its V/L) and
-        moved by secant steps, inside a bracket, to where the dual of the trust
-        row, the objective's derivative in ln(V/L), is zero.
-        """
-        trust = SPLIT_TRUST_START
-        last = None  # the last step's own ln(V/L), its residual and its trust row's dual
-        pins: list[tuple[float, float]] = []  # (ln V/L, dual) once V/L is pinned
-        low, high = VAPOUR_PER_LIQUID_LOG_RANGE
-        for _ in range(self.max_steps):
-            point = self._point(0.0 if pins else trust)
-            u0 = point.log_ratio
-            solved = self._call(solve, conversion, work, point)
-            if solved is None and pins:  # no feed meets this V/L: it lies beyond the best
-                low, high = (low, u0) if u0 > pins[-1][0] else (u0, high)
-                self.ratio = math.exp(0.5 * (pins[-1][0] + u0))
+            solved = self._call(solve, conversion, work, held=True)
+            if solved is None:  # no mixture of the feeds gives this V/L
+                if last is None:
+                    return (None, None) if start is None else None
+                low, high = (low, u) if u > last[0] else (u, high)
+                u = 0.5 * (low + high)
                 continue
-            if solved is None and point.gain is not None:  # perhaps the trust region only
-                solved = self._call(solve, conversion, work, self._point(math.inf))
-            if solved is None or _negative(solved[0]):
+            if _negative(solved[0]):
                 return solved, None
-            residual = self._measure(solved)
             dual = solved[3] if len(solved) > 3 else None
-            u = u0 + residual  # the LP's own ln(V/L)
-            if pins:
-                if not dual:
-                    return solved, residual
-                low, high = (u0, high) if dual < 0.0 else (low, u0)
-                (ua, da), (ub, db) = pins[-1], (u0, dual)
-                pins.append((u0, dual))
-                step = ub - db * (ub - ua) / (db - da) if db != da else 0.5 * (low + high)
-                if not low < step < high:
-                    step = 0.5 * (low + high)
-                if abs(step - u0) < tolerance:
-                    return solved, residual
-                self.ratio = math.exp(step)
-                continue
-            if abs(residual) < tolerance:
-                return solved, residual
-            if last is not None and residual * last[1] < 0.0:  # the step turned back
-                if dual and last[2] and dual * last[2] < 0.0:
-                    # at the edge both times, pushed either way: pin V/L between the two
-                    pins = [(last[0], last[2])]
-                    low, high = sorted((last[0], u))
-                    step = u - dual * (u - last[0]) / (dual - last[2])
-                    self.ratio = math.exp(step if low < step < high else 0.5 * (low + high))
-                    continue
-                trust = 0.5 * min(trust, abs(residual))
-            last = (u, residual, dual)
-            self.ratio = math.exp(min(max(u, VAPOUR_PER_LIQUID_LOG_RANGE[0]),
-                                      VAPOUR_PER_LIQUID_LOG_RANGE[1]))
+            if not dual:  # the LP meets this V/L unforced: exact as it stands
+                return solved, _log_ratio(solved[0]) - u
+            # a negative dual: the LP would have more vapour than R L, so the feeds tie above
+            low, high = (u, high) if dual < 0.0 else (low, u)
+            signs.add(dual > 0.0)
+            if last is not None and dual != last[1]:
+                slope = (dual - last[1]) / (u - last[0])
+            last = (u, dual)
+            newton = u - dual / slope if slope and slope > 0.0 else None
+            if newton is not None and abs(newton - u) < tolerance:  # the dual's zero
+                self.tie_slope = slope
+                return solved, _log_ratio(solved[0]) - u
+            if high - low < 1e-12 * max(1.0, abs(u)):  # closed on an edge of the bracket
+                if start is not None and len(signs) < 2:
+                    return None
+                return solved, _log_ratio(solved[0]) - u
+            u = newton if newton is not None and low < newton < high else 0.5 * (low + high)
         raise _SeparatorDiverged("the separator's vapour-to-liquid ratio did not converge "
-                                 f"in {self.max_steps} linear programmes")
+                                 f"in {self.max_steps} steps with V/L held")
 
     def step_back(self) -> None:
         """Back to the V/L settled last, as the conversions step back to theirs."""
         if self.settled is not None:
             self.ratio = math.exp(self.settled[1])
         self.move = None
+
+
+def _log_ratio(flows) -> float:
+    """ln(V/L) of a separator's flows [-]."""
+    vapour = sum(flows["separator_vapour"].values())
+    liquid = sum(flows["liquid_product"].values())
+    return math.log(max(vapour / max(liquid, 1e-300), 1e-300))
+
+
+def _jump(below: list, above: list) -> bool:
+    """Whether the root of the V/L residual bracketed by these solves is a jump.
+
+    It is when, on either side, the line through the last two solves keeps
+    |residual| above zero up to the nearest solve across the root (a residual
+    smooth in ln(V/L) is close to its secant near the root, so the line from at
+    least one side would cross zero inside the bracket); with one solve on a
+    side, when the bracket is narrower than a tenth of the smaller residual.
+    """
+    if not below or not above:
+        return False
+    if len(below) < 2 or len(above) < 2:
+        return 10.0 * (above[-1][0] - below[-1][0]) < min(below[-1][1], above[-1][1])
+    return _short(below, above[-1][0]) and _short(above, below[-1][0])
+
+
+def _short(side: list, other: float) -> bool:
+    (u0, r0), (u1, r1) = side[-2], side[-1]
+    return u1 != u0 and r1 + (r1 - r0) / (u1 - u0) * (other - u1) > 0.0
 
 
 class _SeparatorDiverged(Exception):

@@ -12,7 +12,8 @@ variables (``design="free"``).
 
 Coefficients that depend on the state (recycle work from the gas's heat
 capacity ratio, catalyst volume per feed, a phase-equilibrium separator's
-liquid shares ``m.liquid_share``) are mutable parameters.  With
+liquid shares ``m.liquid_share``, and a vapour-to-liquid ratio it may hold,
+``m.vapour_per_liquid``) are mutable parameters.  With
 ``capital="tangent"`` each capital line enters the objective as its tangent
 at a parameter size (the solve layer moves the point of tangency to the
 solution), with ``capital="exact"`` as the capacity-scaling power law.
@@ -40,29 +41,6 @@ def add_loop_equations(m: pyo.ConcreteModel, loop: Loop, v: LoopVariables) -> No
         if items:
             m.add_component(family.__name__, pyo.Constraint(
                 list(items), rule=lambda _m, k, items=items: items[k] == 0))
-
-
-def _add_split_point(m: pyo.ConcreteModel, loop: Loop) -> equations.SplitPoint:
-    """ln(V/L) of a phase-equilibrium separator as a variable, with the point its split is
-    linearised about as parameters (see :func:`purgeplan.equations.separator_split`),
-    and a trust region ``m.split_trust``, |u - u0| <= ``m.split_trust_width``.
-
-    With ``m.split_coupled`` 0 and the gains at zero (their initial values) u is
-    free and V/L stays at the liquid shares' own.
-    """
-    m.log_vapour_per_liquid = pyo.Var(initialize=0.0)
-    m.log_vapour_per_liquid0 = pyo.Param(mutable=True, initialize=0.0)
-    m.vapour_per_liquid0 = pyo.Param(mutable=True, initialize=1.0)
-    m.separator_liquid0 = pyo.Param(mutable=True, initialize=0.0)
-    m.liquid_share_gain = pyo.Param(list(loop.components), mutable=True, initialize=0.0)
-    m.split_coupled = pyo.Param(mutable=True, initialize=0.0)
-    m.split_trust_width = pyo.Param(mutable=True, initialize=1.0)
-    m.split_trust = pyo.Constraint(expr=pyo.inequality(
-        -m.split_trust_width, m.log_vapour_per_liquid - m.log_vapour_per_liquid0,
-        m.split_trust_width))
-    return equations.SplitPoint(m.log_vapour_per_liquid, m.log_vapour_per_liquid0,
-                                m.vapour_per_liquid0, m.separator_liquid0, m.liquid_share_gain,
-                                m.split_coupled)
 
 
 def add_fuel_sink(m: pyo.ConcreteModel, loop: Loop, v: LoopVariables) -> tuple | None:
@@ -193,15 +171,18 @@ def build_model(loop: Loop, capital: str = "tangent", design: str = "fixed"
     # state-dependent coefficients, set by the solve layer before every solve
     m.recycle_work_kj_kmol = pyo.Param(mutable=True, initialize=1000.0)
     m.catalyst_volume_per_feed_m3_h_kmol = pyo.Param(mutable=True, initialize=1.0)
-    share = point = None
+    share = held = None
     if loop.separator_model != "split_fractions":  # a phase-equilibrium separator's split
         m.liquid_share = pyo.Param(list(loop.components), mutable=True, initialize=0.5)
         share = m.liquid_share
-        point = _add_split_point(m, loop)
+        # V = R L held where the solve layer sets the weight to 1 (see fixed_point)
+        m.vapour_per_liquid_held = pyo.Param(mutable=True, initialize=0.0)
+        m.vapour_per_liquid = pyo.Param(mutable=True, initialize=1.0)
+        held = (m.vapour_per_liquid_held, m.vapour_per_liquid)
 
     v = LoopVariables(flow=m.flow, extent=m.extent, source=m.source,
                       purge_fraction=m.purge_fraction, conversion=m.conversion,
-                      liquid_share=share, split_point=point)
+                      liquid_share=share, held_vapour_per_liquid=held)
     add_loop_equations(m, loop, v)
     q = quantities(v, loop, m.recycle_work_kj_kmol, m.catalyst_volume_per_feed_m3_h_kmol,
                    fuel_split=add_fuel_sink(m, loop, v),

@@ -41,8 +41,6 @@ from .results import LoopState, costing, make_state
 #: second order in the move, far below the search's tolerance [-].
 TANGENT_TOLERANCE = 1e-6
 
-#: Widest trust region of a phase-equilibrium separator's ln(V/L) in one LP [-].
-SPLIT_TRUST_MAX = 30.0
 ROUTE_DIRECT = "direct linear solve"
 ROUTE_HIGHS = "HiGHS LP"
 
@@ -169,23 +167,18 @@ class LoopLP:
             m.catalyst_volume_per_feed_m3_h_kmol = volume
             if self.lp.solve() is Status.INFEASIBLE:
                 return None
-            if point is None or point.gain is None:
+            if point is None or not point.held:
                 return self._read()
-            return (*self._read(), self.lp.row_dual(m.split_trust))
+            return (*self._read(), self.lp.row_dual(m.separator_split["vapour_per_liquid"]))
         return run
 
     def _set_split(self, point) -> None:
-        """A phase-equilibrium separator's split, linearised in ln(V/L) about the point
-        (see :func:`purgeplan.equations.separator_split`), V/L held without gains."""
+        """A phase-equilibrium separator's liquid shares, and V/L held where asked."""
         m = self.model
         for c, share in point.share.items():
             m.liquid_share[c] = share
-            m.liquid_share_gain[c] = 0.0 if point.gain is None else point.gain[c]
-        m.log_vapour_per_liquid0 = point.log_ratio
-        m.vapour_per_liquid0 = math.exp(point.log_ratio)
-        m.separator_liquid0 = point.liquid_kmol_h
-        m.split_coupled = 0.0 if point.gain is None else 1.0
-        m.split_trust_width = 1.0 if point.gain is None else min(point.trust, SPLIT_TRUST_MAX)
+        m.vapour_per_liquid = math.exp(point.log_ratio)
+        m.vapour_per_liquid_held = 1.0 if point.held else 0.0
 
     def _check_time(self) -> None:
         if self.time_limit_s is not None and \
@@ -238,7 +231,7 @@ class LoopLP:
                         max_iterations=self.max_iterations,
                         work_matters=work_matters and self.use_highs, slopes=self.slopes,
                         vapour_per_liquid=self.vapour_per_liquid,
-                        linearised_split=self.use_highs)
+                        hold_vapour_per_liquid=self.use_highs)
         if done is None:
             return None
         self.slopes.update(done.slopes)

@@ -596,9 +596,17 @@ def cost_on_grid(alt: Alternative, grid: list[float]) -> None:
     if not lower or alt.grid_tac[grid.index(lower[-1])] is not None:
         return
     lo = lower[-1]
+    top = f(hi)
+    if not math.isfinite(top):  # this solver, started afresh, finds no state there: the
+        # optimiser's, reached from its neighbours, stands (the loop has more than one)
+        hi, top = a_opt, alt.optimum.state.tac_per_year
     while hi - lo > 1e-4 * hi:
         mid = 0.5 * (lo + hi)
-        lo, hi = (lo, mid) if math.isfinite(f(mid)) else (mid, hi)
+        value = f(mid)
+        if math.isfinite(value):
+            hi, top = mid, value
+        else:
+            lo = mid
     state = solver.evaluate(hi)
     # a ratio held between equal bounds binds everywhere; it does not end the curve
     bind = set(alt.optimum.binding_constraints)
@@ -607,7 +615,7 @@ def cost_on_grid(alt: Alternative, grid: list[float]) -> None:
     candidates = [lim for lim in solver.limits if lim.name not in held]
     near = max(candidates, key=lambda lim: limits.margin(lim, state.quantities),
                default=None) if state is not None else None
-    alt.curve_edge = (hi, f(hi), (near.name,) if near is not None else ())
+    alt.curve_edge = (hi, top, (near.name,) if near is not None else ())
 
 
 def present_operation(alt: Alternative) -> Optimum:

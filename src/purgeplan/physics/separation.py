@@ -109,7 +109,7 @@ def dissolved_gas_released_fraction(letdown_pressure_bar: float,
 #: as published online seen).  B from Larson and Black (1925): the solubility of
 #: 3:1 H2/N2 in liquid ammonia "more than doubles with a 50 degC rise", so
 #: B = ln 2 / (1/248.15 - 1/298.15) = 1026 K, taken for every gas.  See
-#: docs/references.md section 15.
+#: docs/references.md section 17.
 HENRY_IN_AMMONIA: dict[str, tuple[float, float, float]] = {
     "H2": (22500.0, 298.15, 1026.0),
     "N2": (17000.0, 298.15, 1026.0),
