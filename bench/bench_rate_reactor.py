@@ -50,7 +50,7 @@ def main() -> None:
                   f"purge {s.purge_fraction:.5f}, "
                   f"per pass {s.conversion[0]:.4f}, approach "
                   f"{s.approach_to_equilibrium[0]:.3f}, catalyst "
-                  f"{s.quantities['reactor_volume_m3']:.1f} m3, TAC {s.tac_per_year:,.0f}")
+                  f"{s.quantities['catalyst_volume_m3']:.1f} m3, TAC {s.tac_per_year:,.0f}")
 
 
 if __name__ == "__main__":

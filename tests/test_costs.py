@@ -77,7 +77,7 @@ Q = {
     "source_kmol_h:gas": 1000.0,
     "recycle_compressor_power_kw": 2500.0,
     "makeup_compressor_power_kw": 20000.0,
-    "reactor_volume_m3": 120.0,
+    "catalyst_volume_m3": 120.0,
     "disposal_heat_gj_h": 5.0,
     "disposal_kmol_h": 40.0,
     "product_t_h": 12.0,
@@ -187,7 +187,7 @@ def test_capital_lines_by_hand(fuel_loop):
 
 
 def test_capital_at_the_reference_size_is_crf_times_indexed_cost(fuel_loop):
-    q = dict(Q, reactor_volume_m3=60.0, recycle_compressor_power_kw=10000.0)
+    q = dict(Q, catalyst_volume_m3=60.0, recycle_compressor_power_kw=10000.0)
     got = _evaluate(fuel_loop, q)
     # 0.1627454 x 8.0e6 x 1.25 = 1,627,454 and 0.1627454 x 6.0e6 x 1.25 = 1,220,590
     assert got["reactor_capital"] == pytest.approx(1627454.0, rel=1e-6)
@@ -213,7 +213,7 @@ def test_recovery_lines_by_hand(recovery_loop):
 def test_zero_discount_rate_annualises_straight_line():
     loop = loop_from_text(priced_text(extra_economics=PRICES.replace(
         "discount_rate = 0.10", "discount_rate = 0.0")))
-    got = _evaluate(loop, dict(Q, reactor_volume_m3=60.0))
+    got = _evaluate(loop, dict(Q, catalyst_volume_m3=60.0))
     # no interest: capital / life = 8.0e6 x 1.25 / 10 years
     assert got["reactor_capital"] == pytest.approx(1.0e6, rel=1e-12)
 
@@ -257,7 +257,7 @@ def test_state_capital_uses_the_cost_index(fuel_state):
     q = fuel_state.quantities
     crf = CRF_10_PCT_10_YEARS
     assert fuel_state.costs["reactor_capital"] == pytest.approx(
-        crf * 8.0e6 * 1.25 * (q["reactor_volume_m3"] / 60.0) ** 0.65, rel=1e-9)
+        crf * 8.0e6 * 1.25 * (q["catalyst_volume_m3"] / 60.0) ** 0.65, rel=1e-9)
     assert fuel_state.costs["recycle_compressor_capital"] == pytest.approx(
         crf * 6.0e6 * 1.25 * (q["recycle_compressor_power_kw"] / 10000.0) ** 0.62, rel=1e-9)
     assert fuel_state.costs["makeup_compressor_capital"] == pytest.approx(
@@ -275,7 +275,7 @@ def test_state_hourly_lines_and_totals(fuel_loop, fuel_state):
                                                    rel=1e-12)
     assert c["purge_fuel_credit"] < 0.0
     assert c["catalyst_replacement"] == pytest.approx(
-        capital_recovery_factor(0.10, 4.0) * q["reactor_volume_m3"] * 30000.0, rel=1e-12)
+        capital_recovery_factor(0.10, 4.0) * q["catalyst_volume_m3"] * 30000.0, rel=1e-12)
     # the total is the sum of the lines; the memo is not one of them
     assert fuel_state.tac_per_year == pytest.approx(sum(c.values()), rel=1e-12)
     assert "lost_reactant_memo" not in c
@@ -380,8 +380,8 @@ COMMON_LINES = [
     _line("makeup_compressor_capital", "Make-up compressor capital (annualised)", "capital",
           "makeup_compressor_power_kw", "kW", capital="compressor"),
     _line("reactor_capital", "Reactor and catalyst capital (annualised)", "capital",
-          "reactor_volume_m3", "m3", capital="reactor"),
-    _line("catalyst_replacement", "Catalyst replacement", "replacement", "reactor_volume_m3",
+          "catalyst_volume_m3", "m3", capital="reactor"),
+    _line("catalyst_replacement", "Catalyst replacement", "replacement", "catalyst_volume_m3",
           "m3", price="catalyst_price_per_m3", life="catalyst_life_years"),
 ]
 FUEL_CREDIT = _line("purge_fuel_credit", "Purge gas fuel credit", "hourly",

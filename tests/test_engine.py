@@ -302,20 +302,20 @@ def test_sized_reactor_reproduces_its_reference_point():
     feed = probe.quantities["reactor_feed_kmol_h"]
     state = purgeplan.steady_state(_sized_loop(feed), conversion={0: 0.25})
     assert state.quantities["reactor_feed_kmol_h"] == pytest.approx(feed, rel=1e-12)
-    assert state.quantities["reactor_volume_m3"] == pytest.approx(60.0, rel=1e-12)
+    assert state.quantities["catalyst_volume_m3"] == pytest.approx(60.0, rel=1e-12)
 
 
 def test_sized_reactor_volume_grows_with_conversion():
     loop = _sized_loop(5000.0)
     conversions = [0.1, 0.15, 0.2, 0.25, 0.3, 0.35, 0.38]
     states = [purgeplan.steady_state(loop, conversion={0: x}) for x in conversions]
-    volumes = [s.quantities["reactor_volume_m3"] for s in states]
+    volumes = [s.quantities["catalyst_volume_m3"] for s in states]
     assert all(b > a for a, b in zip(volumes, volumes[1:], strict=False))
     for x, s in zip(conversions, states, strict=True):
         assert s.first_reaction_conversion == x
         expected = (60.0 * s.quantities["reactor_feed_kmol_h"] / 5000.0
                     * _levenspiel(x, 0.4) / _levenspiel(0.25, 0.4))
-        assert s.quantities["reactor_volume_m3"] == pytest.approx(expected, rel=1e-12)
+        assert s.quantities["catalyst_volume_m3"] == pytest.approx(expected, rel=1e-12)
         assert s.balance_error < BALANCE_TOL
 
 
@@ -339,7 +339,7 @@ def test_sized_reactor_volume_uses_the_equilibrium_at_its_inlet():
         assert x < x_e and abs(x_e - 0.4) > 0.01  # the state's own equilibrium differs
         expected = (60.0 * s.quantities["reactor_feed_kmol_h"] / 5000.0
                     * _levenspiel(x, x_e) / _levenspiel(0.25, 0.4))
-        assert s.quantities["reactor_volume_m3"] == pytest.approx(expected, rel=1e-12)
+        assert s.quantities["catalyst_volume_m3"] == pytest.approx(expected, rel=1e-12)
 
 
 def test_sized_reactor_volume_grows_without_bound_toward_equilibrium():
@@ -354,7 +354,7 @@ def test_sized_reactor_volume_grows_without_bound_toward_equilibrium():
             return 1.0
     x_star = brentq(gap, 0.05, 0.6, xtol=1e-13)
     volumes = [purgeplan.steady_state(loop, conversion={0: x_star * (1 - d)})
-               .quantities["reactor_volume_m3"] for d in (1e-2, 1e-4, 1e-6, 1e-8)]
+               .quantities["catalyst_volume_m3"] for d in (1e-2, 1e-4, 1e-6, 1e-8)]
     assert all(b > a for a, b in zip(volumes, volumes[1:], strict=False))
     # k tau = X_e ln(X_e / (X_e - X)) grows by X_e ln(100) per factor 100 closer
     assert volumes[-1] > 2.5 * volumes[0]
@@ -370,7 +370,7 @@ def test_sized_reactor_optimum_stops_short_of_equilibrium():
     opt = optimise(loop, details=False)
     x, x_e = opt.state.conversion[0], opt.state.equilibrium_conversion[0]
     assert 0.05 <= x < 0.995 * x_e
-    assert math.isfinite(opt.state.quantities["reactor_volume_m3"])
+    assert math.isfinite(opt.state.quantities["catalyst_volume_m3"])
     solver = LoopLP(loop)
     a = opt.state.purge_fraction
     scan = [solver.tac(a, 0.05 + 0.33 * k / 199) for k in range(200)]

@@ -159,7 +159,7 @@ def test_quantities_on_hand_made_flows(loop):
     assert q["makeup_compressor_power_kw"] == pytest.approx(3437.5, rel=1e-12)
     # reactor feed 4600 kmol/h; catalyst 0.01 x 4600 = 46 m3
     assert q["reactor_feed_kmol_h"] == pytest.approx(4600.0, rel=1e-12)
-    assert q["reactor_volume_m3"] == pytest.approx(46.0, rel=1e-12)
+    assert q["catalyst_volume_m3"] == pytest.approx(46.0, rel=1e-12)
     # inerts Ar + CH4 at the converter inlet: 200 + 300
     assert q["inert_kmol_h_reactor_inlet"] == pytest.approx(500.0, rel=1e-12)
     # purge 78.2 kmol/h leaves the loop

@@ -44,6 +44,24 @@ SEEDS = {
     "template": ROOT / "templates" / "case_template.toml",
 }
 SEED_TEXT = {name: path.read_text(encoding="utf-8") for name, path in SEEDS.items()}
+
+
+def _template_example(name: str) -> str:
+    """The template with its example block NAME uncommented in place (one line "# example:
+    NAME", then commented TOML up to a blank line), so the fuzz reaches that block's keys."""
+    lines = SEED_TEXT["template"].splitlines(keepends=True)
+    start = lines.index(f"# example: {name}\n") + 1
+    end = start
+    while end < len(lines) and lines[end].strip():
+        lines[end] = lines[end][2:]
+        end += 1
+    return "".join(lines)
+
+
+#: The template's Langmuir-Hinshelwood converter as a seed of its own: every key of a rate
+#: whose constants the case gives (the power law's are a subset).
+SEEDS["rate_forms"] = SEEDS["template"]
+SEED_TEXT["rate_forms"] = _template_example("rate_langmuir_hinshelwood")
 SEED_DOCS = {name: tomllib.loads(text) for name, text in SEED_TEXT.items()}
 
 CHECK_OK = frozenset({0, 2, 3, 4})
@@ -218,14 +236,17 @@ WRONG_TYPES = ["", "abc", "150 bar", "condensation", "none", True, False, [], [1
                dt.time(7, 32), 3, 2.5, [[1]], [{}]]
 UNIT_SUFFIXES = ["_bar", "_c", "_t_d", "_kmol_h", "_kw", "_m3", "_per_kmol", "_per_kwh",
                  "_per_gj", "_per_t", "_per_m3", "_per_h", "_kg_kmol", "_kj_mol",
-                 "_j_mol_k", "_years", "_fraction"]
+                 "_j_mol_k", "_years", "_fraction", "_kmol_m3_h"]
 WRONG_UNITS = ["_psi", "_pa", "_kpa", "_barg", "_k", "_f", "_kg_h", "_t_h", "_kmol_s",
                "_mol_h", "_mw", "_hp", "_l", "_ft3", "_per_kg", "_per_mwh", "_per_s",
                "_g_mol", "_btu", "_months", "_percent", ""]
 MANY_KEYS = ["pressure_bar", "temperature_c", "production_t_d", "purge_fraction", "name",
              "composition", "stoichiometry", "key_reactant", "per_pass", "identifier", "H2",
              "options", "choices", "value", "makeup_sources", "liquid_fraction", "model",
-             "henry_constant_bar"]
+             "henry_constant_bar", "law",
+             "orders", "adsorption", "exponents", "denominator_power",
+             "pre_exponential_kmol_m3_h", "activation_energy_kj_mol",
+             "heat_of_adsorption_kj_mol"]
 
 
 def nodes(doc: Any, path: tuple = ()) -> list[tuple[tuple, Any]]:

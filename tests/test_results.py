@@ -115,7 +115,7 @@ def test_quantities_of_the_state(loop):
     assert q["recycle_compressor_power_kw"] == pytest.approx(918.3333333333, rel=1e-12)
     # reactor feed 3381 + 1181 + 190.5 + 380 = 5132.5 kmol/h; catalyst 0.01 x 5132.5 m3
     assert q["reactor_feed_kmol_h"] == pytest.approx(5132.5, rel=1e-12)
-    assert q["reactor_volume_m3"] == pytest.approx(51.325, rel=1e-12)
+    assert q["catalyst_volume_m3"] == pytest.approx(51.325, rel=1e-12)
     assert q["inert_kmol_h_reactor_inlet"] == pytest.approx(190.5, rel=1e-12)
     assert q["disposal_kmol_h"] == pytest.approx(217.5, rel=1e-12)
     # 380 kmol/h of NH3 x 17 kg/kmol = 6.46 t/h

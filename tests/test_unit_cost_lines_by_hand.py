@@ -160,7 +160,7 @@ POWER = [
     _line("makeup_power", "Make-up compression power", "hourly",
           "makeup_compressor_power_kw", "kW", price="power_price_per_kwh")]
 CATALYST = _line("catalyst_replacement", "Catalyst replacement", "replacement",
-                 "reactor_volume_m3", "m3", price="catalyst_price_per_m3",
+                 "catalyst_volume_m3", "m3", price="catalyst_price_per_m3",
                  life="catalyst_life_years")
 RECOVERY = [
     _line("recovery_capital", "Recovery unit capital (annualised)", "capital",
@@ -185,7 +185,7 @@ def test_every_field_of_the_lines_of_the_units(units_loop):
               "Compressor capital, one casing for make-up and recycle (annualised)",
               "capital", "compressor_power_kw", "kW", capital="compressor"),
         _line("reactor_capital", "Reactor and catalyst capital (annualised)", "capital",
-              "reactor_volume_m3", "m3", capital="reactor", factor="reactor_pressure_factor"),
+              "catalyst_volume_m3", "m3", capital="reactor", factor="reactor_pressure_factor"),
         CATALYST, *RECOVERY,
         _line("purge_fuel_credit", "Purge gas fuel credit (up to the fuel sink capacity)",
               "hourly", "fuel_heat_gj_h", "GJ/h", price="fuel_price_per_gj", sign=-1.0),
@@ -218,7 +218,7 @@ def test_every_field_of_the_lines_of_the_other_arrangement(other_loop):
         _line("makeup_compressor_capital", "Make-up compressor capital (annualised)",
               "capital", "makeup_compressor_duty_kw", "kW", capital="compressor"),
         _line("reactor_capital", "Reactor and catalyst capital (annualised)", "capital",
-              "reactor_volume_m3", "m3", capital="reactor"),
+              "catalyst_volume_m3", "m3", capital="reactor"),
         CATALYST, *RECOVERY,
         _line("purge_fuel_credit", "Purge gas fuel credit", "hourly", "disposal_heat_gj_h",
               "GJ/h", price="fuel_price_per_gj", sign=-1.0),
@@ -281,7 +281,7 @@ Q = {
     "source_kmol_h:liquid_nitrogen": 50.0,
     "recycle_compressor_power_kw": 1000.0, "makeup_compressor_power_kw": 6000.0,
     "makeup_compressor_duty_kw": 6400.0, "compressor_power_kw": 7000.0,
-    "reactor_volume_m3": 60.0, "recovery_feed_kmol_h": 500.0,
+    "catalyst_volume_m3": 60.0, "recovery_feed_kmol_h": 500.0,
     "fuel_heat_gj_h": 5.0, "flared_kmol_h": 160.0, "disposal_heat_gj_h": 30.0,
     "disposal_co2_t_h": 0.9, "recovery_recompression_power_kw": 400.0,
     "recovery_export_sold_kmol_h": 9.0, "direct_feed_compression_power_kw": 2000.0,

@@ -95,11 +95,38 @@ class SizingSpec(_Strict):
     approach_to_equilibrium_max: OpenFraction | None = None
 
 
+#: Constants of a rate the case gives: rate constants and adsorption constants span
+#: many decades (a pre-exponential factor of 1e15 is common); energies in kJ/mol.
+RateConstant = _num(ge=1e-30, le=1e30)
+EnergyKjMol = _num(ge=-1000, le=1000)
+ReactionOrder = _num(ge=0, le=10)
+AdsorptionExponent = _num(ge=-10, le=10)
+DenominatorPower = _num(gt=0, le=10)
+
+
+class AdsorptionTermSpec(_Strict):
+    """One term K_j0 exp(-dH_j/RT) prod p_i^m_ij of a Langmuir-Hinshelwood denominator."""
+
+    pre_exponential: RateConstant
+    heat_of_adsorption_kj_mol: EnergyKjMol
+    exponents: dict[Name, AdsorptionExponent]
+
+
+#: The keys of a rate whose constants the case gives.
+RATE_CONSTANT_KEYS = ("pre_exponential_kmol_m3_h", "activation_energy_kj_mol", "orders",
+                      "adsorption", "denominator_power")
+
+
 class RateSpec(_Strict):
     """A catalyst bed sized from a rate expression (per_pass = "rate")."""
 
-    law: Literal["temkin_pyzhev"] = "temkin_pyzhev"
+    law: Literal["temkin_pyzhev", "power_law", "langmuir_hinshelwood"] = "temkin_pyzhev"
     effectiveness_factor: UpToOne | Literal["dyson_simon"] = 1.0
+    pre_exponential_kmol_m3_h: RateConstant | None = None
+    activation_energy_kj_mol: EnergyKjMol | None = None
+    orders: dict[Name, ReactionOrder] | None = None
+    adsorption: list[AdsorptionTermSpec] | None = None
+    denominator_power: DenominatorPower | None = None
     conversion_min: OpenFraction = 0.02
     conversion_max: OpenFraction = 0.95
     approach_to_equilibrium_max: OpenFraction | None = None
@@ -537,24 +564,75 @@ def _check_reaction(base: str, r: ReactionSpec, need: _Need) -> None:
                             "needs the reaction's equilibrium table (without it the sizing's "
                             "equilibrium_conversion is fixed: bound conversion_max instead)")
     if r.rate is not None:
-        _check_rate(base, r)
+        _check_rate(base, r, need)
 
 
-def _check_rate(base: str, r: ReactionSpec) -> None:
-    """The Temkin-Pyzhev constants of Dyson and Simon (1968) belong to their equilibrium:
-    the rate is zero there and nowhere else (its reaction is then checked to be ammonia
-    synthesis with the property data, :mod:`purgeplan.case_checks`)."""
+def _check_rate(base: str, r: ReactionSpec, need: _Need) -> None:
+    """A rate table: the keys its law needs and no others, and its equilibrium."""
     if r.per_pass not in ("rate", "equilibrium"):
         raise CaseError(f"{base}.rate", "sizes the catalyst of per_pass = 'rate' or "
                         f"'equilibrium' only, not '{r.per_pass}': delete it or change per_pass")
+    if r.rate.law == "temkin_pyzhev":
+        _check_temkin_rate(base, r)
+    else:
+        _check_rate_constants(base, r, need)
+    if not r.rate.conversion_min < r.rate.conversion_max:
+        raise CaseError(f"{base}.rate.conversion_max", "need conversion_min < conversion_max")
+
+
+def _check_temkin_rate(base: str, r: ReactionSpec) -> None:
+    """The Temkin-Pyzhev constants of Dyson and Simon (1968) belong to their equilibrium:
+    the rate is zero there and nowhere else (its reaction is then checked to be ammonia
+    synthesis with the property data, :mod:`purgeplan.case_checks`)."""
+    for key in RATE_CONSTANT_KEYS:
+        if getattr(r.rate, key) is not None:
+            raise CaseError(f"{base}.rate.{key}", "belongs to law = 'power_law' or "
+                            "'langmuir_hinshelwood'; the Temkin-Pyzhev rate has the constants "
+                            "of Dyson and Simon: delete it or change the law")
     eq = r.equilibrium
     if (eq is None or eq.constant != "ammonia_gillespie_beattie" or eq.fugacity != "dyson_simon"
             or eq.fugacity_correction_factor != 1.0):
         raise CaseError(f"{base}.equilibrium", "the Temkin-Pyzhev rate of Dyson and Simon needs "
                         "their equilibrium: { constant = \"ammonia_gillespie_beattie\", "
                         "fugacity = \"dyson_simon\" } with no correction factor")
-    if not r.rate.conversion_min < r.rate.conversion_max:
-        raise CaseError(f"{base}.rate.conversion_max", "need conversion_min < conversion_max")
+
+
+def _check_rate_constants(base: str, r: ReactionSpec, need: _Need) -> None:
+    """A power-law or Langmuir-Hinshelwood rate: its constants, components and equilibrium."""
+    rate, law, path = r.rate, r.rate.law, f"{base}.rate"
+    if rate.effectiveness_factor == "dyson_simon":
+        raise CaseError(f"{path}.effectiveness_factor", "'dyson_simon' is the fit for the "
+                        "Temkin-Pyzhev rate only: give a number between 0 and 1")
+    if r.equilibrium is None:
+        raise CaseError(f"{base}.equilibrium", f"required with rate law '{law}': its driving "
+                        "force 1 - Q/K comes from the reaction's equilibrium (equilibrium = {} "
+                        "takes K from formation data)")
+    needed = ("pre_exponential_kmol_m3_h", "activation_energy_kj_mol", "orders")
+    if law == "langmuir_hinshelwood":
+        needed += ("adsorption", "denominator_power")
+    for key in needed:
+        if getattr(rate, key) is None:
+            raise CaseError(f"{path}.{key}", f"required with law = '{law}'")
+    for c in rate.orders:
+        need(f"{path}.orders.{_key(c)}", c)
+    if law == "power_law":
+        for key in ("adsorption", "denominator_power"):
+            if getattr(rate, key) is not None:
+                raise CaseError(f"{path}.{key}", "belongs to law = 'langmuir_hinshelwood': "
+                                "delete it or change the law")
+        return
+    if not rate.adsorption:
+        raise CaseError(f"{path}.adsorption", "give at least one adsorption term "
+                        "(without one the rate is a power law: law = 'power_law')")
+    for j, term in enumerate(rate.adsorption):
+        where = f"{path}.adsorption[{j}].exponents"
+        if not term.exponents:
+            raise CaseError(where, "give the exponent of at least one component")
+        for c, m in term.exponents.items():
+            need(f"{where}.{_key(c)}", c)
+            if m < 0 and r.stoichiometry.get(c, 0.0) >= 0:
+                raise CaseError(f"{where}.{_key(c)}", f"a negative exponent is allowed on a "
+                                f"reactant only (which the bed never runs out of), not {c!r}")
 
 
 def _check_sizing(base: str, s: SizingSpec) -> None:

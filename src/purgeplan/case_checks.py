@@ -19,7 +19,7 @@ from collections.abc import Mapping
 from typing import TYPE_CHECKING, Any
 
 from .errors import CaseError
-from .physics import equilibrium, separation, thermo
+from .physics import equilibrium, kinetics, separation, thermo
 from .physics.real_gas import PengRobinsonData
 from .physics.thermo import KELVIN
 from .properties import ComponentData, lookup, peng_robinson_parameters
@@ -47,6 +47,7 @@ def check_property_data(case: Case) -> None:
         formation_terms(spec, data)
         _check_gillespie_beattie(path, spec)
         _check_fugacity(path, spec, t_reactor, case.loop.pressure_bar)
+        _check_rate_constants_at(path, spec, t_reactor)
     condensate_vapour_ratio(case, data)
     separator_k_values(case, data)
     peng_robinson_data(case, data)
@@ -186,6 +187,32 @@ def _check_fugacity(path: str, spec: ReactionSpec, temperature_k: float,
                         f"the Dyson-Simon correlation gives no usable fugacity coefficient "
                         f"for {', '.join(bad)} at {temperature_k - KELVIN:g} degC and "
                         f"{pressure_bar:g} bar; use fugacity = 'ideal'")
+
+
+def _check_rate_constants_at(path: str, spec: ReactionSpec, temperature_k: float) -> None:
+    """A rate constant and adsorption constants that are numbers at the reactor temperature.
+
+    k0 exp(-E/RT) and K_j0 exp(-dH_j/RT) must lie within e^-300 to e^300 (about 1e-130 to
+    1e130), so that with partial pressures to the powers the schema allows the rate's
+    numerator stays a floating-point number (a denominator that overflows makes the rate
+    zero and the bed infinite, which the loop reports).  Beyond that, most often, an
+    energy in J/mol was given as kJ/mol.
+    """
+    rate = spec.rate
+    if rate is None or rate.law == "temkin_pyzhev":
+        return
+    r_t = kinetics.R_KJ_MOL_K * temperature_k
+    checks = [(f"{path}.rate.activation_energy_kj_mol", rate.pre_exponential_kmol_m3_h,
+               rate.activation_energy_kj_mol, "rate constant k0 exp(-E/RT)")]
+    checks += [(f"{path}.rate.adsorption[{j}].heat_of_adsorption_kj_mol", a.pre_exponential,
+                a.heat_of_adsorption_kj_mol, "adsorption constant K0 exp(-dH/RT)")
+               for j, a in enumerate(rate.adsorption or ())]
+    for where, k0, energy, what in checks:
+        ln_k = math.log(k0) - energy / r_t
+        if not -300.0 < ln_k < 300.0:
+            raise CaseError(where, f"the {what} is e^{ln_k:.4g} at the reactor's "
+                            f"{temperature_k - KELVIN:g} degC, beyond e^300: check the "
+                            "energy's unit (kJ/mol) and sign")
 
 
 # ---------------------------------------------------------------------------

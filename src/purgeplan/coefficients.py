@@ -12,7 +12,7 @@ fixed point (:mod:`purgeplan.fixed_point`) converges them.
 from __future__ import annotations
 
 import math
-from collections.abc import Mapping
+from collections.abc import Callable, Mapping
 from functools import partial
 
 import numpy as np
@@ -106,19 +106,55 @@ def _rate_bed_volume_per_feed(loop: Loop, i: int, conversion: float,
     if x_e is None:
         x_e = equilibrium_conversions(loop, dict(zip(comps, y0, strict=True)))[i]
     nu = np.array([r.stoichiometry.get(c, 0.0) for c in comps])
-    at = {c: comps.index(c) for c in ("N2", "H2", "NH3")}
-    t, p = loop.reactor_temperature_k, loop.pressure_bar
-    per_extent = r.stoichiometry["NH3"]
-    eta = r.rate["effectiveness_factor"]
-
-    def rate(y):
-        nh3 = y[at["NH3"]]
-        factor = (kinetics.dyson_simon_effectiveness_factor(t, p, nh3) if eta == "dyson_simon"
-                  else eta)
-        return factor * kinetics.temkin_pyzhev_rate_kmol_m3_h(
-            t, p, y[at["N2"]], y[at["H2"]], nh3) / per_extent
     return reactor.isothermal_bed_volume_per_feed_m3_h_kmol(
-        rate, y0, nu, comps.index(r.key_reactant), conversion, x_e)
+        rate_function(loop, i, loop.reactor_temperature_k), y0, nu,
+        comps.index(r.key_reactant), conversion, x_e)
+
+
+def rate_function(loop: Loop, i: int, temperature_k: float) -> Callable[[np.ndarray], np.ndarray]:
+    """The effective rate of reaction ``i`` at a bed temperature, as a function of the
+    mole fractions [kmol of extent/(m3 bed h)].
+
+    The returned ``rate(y)`` takes mole fractions of shape (C, n) in the
+    order of ``loop.components`` at the loop pressure and includes the
+    effectiveness factor.  The law is the case's ``rate.law``:
+    ``temkin_pyzhev`` (:func:`purgeplan.physics.kinetics.temkin_pyzhev_rate_kmol_m3_h`
+    per unit of extent), ``power_law``
+    (:func:`purgeplan.physics.kinetics.power_law_rate_kmol_m3_h`) or
+    ``langmuir_hinshelwood``
+    (:func:`purgeplan.physics.kinetics.langmuir_hinshelwood_rate_kmol_m3_h`);
+    the last two take their driving force from the reaction's equilibrium at
+    that temperature (:func:`equilibrium_rhs`).
+    """
+    r, comps = loop.reactions[i], loop.components
+    spec = r.rate
+    t, p = temperature_k, loop.pressure_bar
+    eta = spec["effectiveness_factor"]
+    if spec["law"] == "temkin_pyzhev":
+        at = {c: comps.index(c) for c in ("N2", "H2", "NH3")}
+        per_extent = r.stoichiometry["NH3"]
+
+        def temkin(y):
+            nh3 = y[at["NH3"]]
+            factor = (kinetics.dyson_simon_effectiveness_factor(t, p, nh3)
+                      if eta == "dyson_simon" else eta)
+            return factor * kinetics.temkin_pyzhev_rate_kmol_m3_h(
+                t, p, y[at["N2"]], y[at["H2"]], nh3) / per_extent
+        return temkin
+    rhs = (r.equilibrium_rhs if t == loop.reactor_temperature_k and r.equilibrium_rhs is not None
+           else equilibrium_rhs(r, t, p))
+    nu = np.array([r.stoichiometry.get(c, 0.0) for c in comps])
+    orders = np.array([spec["orders"].get(c, 0.0) for c in comps])
+    constants = (spec["pre_exponential_kmol_m3_h"], spec["activation_energy_kj_mol"],
+                 orders, nu, rhs)
+    if spec["law"] == "power_law":
+        return lambda y: eta * kinetics.power_law_rate_kmol_m3_h(t, p, y, *constants)
+    terms = tuple((a["pre_exponential"], a["heat_of_adsorption_kj_mol"],
+                   np.array([a["exponents"].get(c, 0.0) for c in comps]))
+                  for a in spec["adsorption"])
+    power = spec["denominator_power"]
+    return lambda y: eta * kinetics.langmuir_hinshelwood_rate_kmol_m3_h(
+        t, p, y, *constants, terms, power)
 
 
 def equilibrium_rhs(r: Reaction, temperature_k: float, pressure_bar: float) -> float:

@@ -124,11 +124,11 @@ def cost_lines(loop: Loop) -> list[CostLine]:
                  "makeup_compressor_power_kw", "kW", price="power_price_per_kwh"),
         *_compressor_capital(loop),
         CostLine("reactor_capital", "Reactor and catalyst capital (annualised)", "capital",
-                 "reactor_volume_m3", "m3", capital="reactor",
+                 "catalyst_volume_m3", "m3", capital="reactor",
                  factor="reactor_pressure_factor"
                  if loop.prices.reactor_pressure_factor != 1.0 else ""),
         CostLine("catalyst_replacement", "Catalyst replacement", "replacement",
-                 "reactor_volume_m3", "m3", price="catalyst_price_per_m3",
+                 "catalyst_volume_m3", "m3", price="catalyst_price_per_m3",
                  life="catalyst_life_years"),
     ]
     if loop.recovery_return_fraction is not None:

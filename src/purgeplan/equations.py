@@ -193,7 +193,7 @@ def reactor_feed_kmol_h(v: LoopVariables, loop: Loop):
     return sum(v.flow["reactor_feed", c] for c in loop.components)
 
 
-def reactor_volume_m3(v: LoopVariables, loop: Loop, catalyst_volume_per_feed_m3_h_kmol):
+def catalyst_volume_m3(v: LoopVariables, loop: Loop, catalyst_volume_per_feed_m3_h_kmol):
     """Catalyst volume, proportional to the reactor feed at fixed conversion [m3]."""
     return catalyst_volume_per_feed_m3_h_kmol * reactor_feed_kmol_h(v, loop)
 
@@ -449,7 +449,7 @@ def quantities(v: LoopVariables, loop: Loop, work_kj_kmol, catalyst_volume_per_f
         "purge_fraction": v.purge_fraction,
         "recycle_compressor_power_kw": recycle_compressor_power_kw(v, loop, work_kj_kmol),
         "makeup_compressor_power_kw": makeup_compressor_power_kw(v, loop),
-        "reactor_volume_m3": reactor_volume_m3(v, loop, catalyst_volume_per_feed),
+        "catalyst_volume_m3": catalyst_volume_m3(v, loop, catalyst_volume_per_feed),
         "reactor_feed_kmol_h": reactor_feed_kmol_h(v, loop),
         "inert_kmol_h_reactor_inlet": inert_kmol_h_reactor_inlet(v, loop),
         "disposal_heat_gj_h": disposal_heat_gj_h(v, loop),

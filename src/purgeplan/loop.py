@@ -33,7 +33,9 @@ class Reaction:
 
     ``per_pass`` is "fixed", "equilibrium", "sized" (a first-order sizing
     relation) or "rate" (a catalyst bed integrated over the rate expression
-    ``rate``); the last two make the conversion a design variable.  An
+    ``rate``: its law, Temkin-Pyzhev, power law or Langmuir-Hinshelwood, and
+    the constants the case gives, see :func:`purgeplan.coefficients.rate_function`);
+    the last two make the conversion a design variable.  An
     equilibrium reaction with a ``rate`` sizes its catalyst from the rate at
     its approach to equilibrium.  ``equilibrium_method``
     names how K(T) is found ("ammonia_gillespie_beattie" or "formation_data"),

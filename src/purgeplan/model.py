@@ -187,7 +187,7 @@ def build_model(loop: Loop, capital: str = "tangent", design: str = "fixed"
     q = quantities(v, loop, m.recycle_work_kj_kmol, m.catalyst_volume_per_feed_m3_h_kmol,
                    fuel_split=add_fuel_sink(m, loop, v),
                    water_condensing=add_water_cooler(m, loop))
-    for key in ("recycle_compressor_power_kw", "makeup_compressor_power_kw", "reactor_volume_m3",
+    for key in ("recycle_compressor_power_kw", "makeup_compressor_power_kw", "catalyst_volume_m3",
                 "reactor_feed_kmol_h", "inert_kmol_h_reactor_inlet", "disposal_heat_gj_h"):
         m.add_component(key, pyo.Expression(expr=q[key]))
         q[key] = m.component(key)

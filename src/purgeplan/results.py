@@ -157,8 +157,10 @@ def unit_warnings(loop: Loop) -> list[str]:
 
 
 def rate_warnings(loop: Loop) -> list[str]:
-    """A warning where a rate-based reactor works outside its rate's fitted conditions."""
-    if loop.rate_reaction is None:
+    """A warning where a Temkin-Pyzhev rate works outside the conditions it was fitted over
+    (a rate whose constants the case gives carries no fitted range here)."""
+    i = loop.rate_reaction
+    if i is None or loop.reactions[i].rate["law"] != "temkin_pyzhev":
         return []
     return kinetics.fitted_range_warnings(loop.reactor_temperature_k, loop.pressure_bar)
 

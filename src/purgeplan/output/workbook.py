@@ -1299,6 +1299,15 @@ def _streams_sheet(ws: Worksheet, study: StudyResult, refs: _Refs) -> None:
         _text(ws, row, 1, f"Loop pressure {loop.pressure_bar:g} bar abs; the loop loses "
                           f"{loop.pressure_drop_bar:g} bar, made up by the recycle compressor.")
         row += 1
+        state = alt.optimum.state
+        for i, r in enumerate(loop.reactions):  # every reaction's conversion, not the key's only
+            _text(ws, row, 1, f"Per-pass conversion of {r.key_reactant}, {r.name} [%]")
+            _number(ws, row, 2, state.conversion[i], FMT_PCT_2)
+            equilibrium = state.equilibrium_conversion.get(i)
+            if equilibrium is not None:
+                _text(ws, row, 3, "at equilibrium [%]")
+                _number(ws, row, 4, equilibrium, FMT_PCT_2)
+            row += 1
         _header(ws, row, ["Stream"] + [STREAM_LABELS.get(s, s) for s in streams])
         row += 1
         conditions = stream_conditions(loop)

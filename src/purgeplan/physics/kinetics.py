@@ -1,4 +1,5 @@
-"""Rate of ammonia synthesis on an iron catalyst, and the catalyst bed it sizes.
+"""Rates of catalytic gas reactions: ammonia synthesis on an iron catalyst, and the
+power-law and Langmuir-Hinshelwood forms whose constants a case gives.
 
 References
 ----------
@@ -10,6 +11,17 @@ References
    sources (the paper itself not seen); see docs/references.md, section 11.
 .. [2] M. Temkin and V. Pyzhev, "Kinetics of the synthesis of ammonia on
    promoted iron catalysts", Acta Physicochim. URSS 12, 327 (1940).
+.. [3] G. F. Froment and K. B. Bischoff, *Chemical Reactor Analysis and Design*,
+   2nd ed., Wiley 1990, chapter 2 (rate equations of the Hougen-Watson or
+   Langmuir-Hinshelwood type: kinetic group times driving force over the
+   adsorption group to the power of the number of sites taking part).
+.. [4] H. S. Fogler, *Elements of Chemical Reaction Engineering*, 4th ed.,
+   Prentice Hall 2006, chapters 3 and 10 (power-law rates in partial
+   pressures; reversible rates written with the driving force 1 - Q/K).
+.. [5] K. M. Vanden Bussche and G. F. Froment, "A steady-state kinetic model for
+   methanol synthesis and the water gas shift reaction on a commercial
+   Cu/ZnO/Al2O3 catalyst", J. Catal. 161, 1-10 (1996): a published rate of
+   the Langmuir-Hinshelwood form (docs/references.md, section 15).
 """
 
 from __future__ import annotations
@@ -121,3 +133,107 @@ def fitted_range_warnings(temperature_k: float, pressure_bar: float) -> list[str
         out.append(f"the reactor's {temperature_k:.4g} K lies outside the {t_lo:g} to {t_hi:g} K")
     return [f"{where} the Temkin-Pyzhev rate of Dyson and Simon (1968) was fitted over: "
             "it is extrapolated" for where in out]
+
+
+#: Gas constant [kJ/(mol K)].
+R_KJ_MOL_K = 8.314462618e-3
+
+
+def power_law_rate_kmol_m3_h(temperature_k: float, pressure_bar: float, y,
+                             pre_exponential_kmol_m3_h: float, activation_energy_kj_mol: float,
+                             orders, stoichiometry, equilibrium_rhs: float):
+    """Rate of a reversible reaction in power-law form [kmol of extent/(m3 bed h)].
+
+    r = k0 exp(-E / RT) prod_i p_i^n_i (1 - Q / K)
+
+    with partial pressures p_i = y_i P [bar], so k0 is in kmol of extent per
+    m3 of bed per hour per bar^sum(n_i), and the driving force written with
+    mole fractions, Q / K = prod_i y_i^nu_i / exp(rhs), where rhs is the
+    right-hand side of the reaction's own equilibrium condition (ln K less
+    dnu ln(P / P0) and any fugacity terms, as
+    :func:`purgeplan.coefficients.equilibrium_rhs` states it).  The rate is
+    therefore zero at the equilibrium the loop computes, positive below it
+    and negative beyond it (the power-law rate of [4]_, ch. 3, with the
+    reversible driving force of [3]_, ch. 2).  A negative activation energy
+    is an apparent one (a rate constant that falls with temperature).
+
+    Parameters
+    ----------
+    temperature_k, pressure_bar : float
+        Bed temperature [K] and pressure [bar].
+    y : array_like, shape (C,) or (C, n)
+        Mole fractions [-].
+    pre_exponential_kmol_m3_h : float
+        k0 [kmol/(m3 h bar^sum(n))].
+    activation_energy_kj_mol : float
+        E [kJ/mol].
+    orders, stoichiometry : array_like, shape (C,)
+        Reaction orders n_i (0 for a component not in the rate) and
+        stoichiometric coefficients nu_i [-].
+    equilibrium_rhs : float
+        ln K - dnu ln(P / P0) - sum nu ln phi - ln K_phi [-].
+    """
+    y = np.asarray(y, dtype=float)
+    n = np.asarray(orders, dtype=float)
+    nu = np.asarray(stoichiometry, dtype=float)
+    shape = (-1,) + (1,) * (y.ndim - 1)
+    k = pre_exponential_kmol_m3_h * math.exp(-activation_energy_kj_mol
+                                             / (R_KJ_MOL_K * temperature_k))
+    with np.errstate(divide="ignore", invalid="ignore"):
+        p = y * pressure_bar
+        kinetic = np.prod(np.where(n.reshape(shape) == 0.0, 1.0, p ** n.reshape(shape)), axis=0)
+        taking_part = nu != 0.0
+        ln_q = np.sum(nu[taking_part].reshape(shape) * np.log(y[taking_part]), axis=0)
+        driving = -np.expm1(ln_q - equilibrium_rhs)
+        return k * kinetic * driving
+
+
+def adsorption_group(temperature_k: float, pressure_bar: float, y, adsorption,
+                     denominator_power: float):
+    """Adsorption group of a Langmuir-Hinshelwood rate [-].
+
+    (1 + sum_j K_j0 exp(-dH_j / RT) prod_i p_i^m_ij)^m, p_i = y_i P [bar]
+    ([3]_, ch. 2: one term per adsorbed species or group, m the number of
+    sites in the rate-determining step).  An exponent m_ij may be negative
+    (a ratio such as p_H2O / p_H2 in [5]_).
+
+    Parameters
+    ----------
+    adsorption : sequence of (float, float, array_like of shape (C,))
+        Each term's K_j0 [bar^-sum(m_ij)], heat of adsorption dH_j [kJ/mol]
+        (negative: adsorption is exothermic, K_j falls with temperature) and
+        exponents m_ij [-].
+    denominator_power : float
+        m [-].
+    """
+    y = np.asarray(y, dtype=float)
+    shape = (-1,) + (1,) * (y.ndim - 1)
+    total = np.ones(y.shape[1:])
+    with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
+        p = y * pressure_bar
+        for k0, dh_kj_mol, exponents in adsorption:
+            m = np.asarray(exponents, dtype=float).reshape(shape)
+            coverage = k0 * math.exp(-dh_kj_mol / (R_KJ_MOL_K * temperature_k))
+            total = total + coverage * np.prod(np.where(m == 0.0, 1.0, p**m), axis=0)
+        return total**denominator_power
+
+
+def langmuir_hinshelwood_rate_kmol_m3_h(temperature_k: float, pressure_bar: float, y,
+                                        pre_exponential_kmol_m3_h: float,
+                                        activation_energy_kj_mol: float, orders, stoichiometry,
+                                        equilibrium_rhs: float, adsorption,
+                                        denominator_power: float):
+    """Rate of a reversible reaction in Langmuir-Hinshelwood form [kmol of extent/(m3 bed h)].
+
+    r = k0 exp(-E / RT) prod_i p_i^n_i (1 - Q / K)
+        / (1 + sum_j K_j0 exp(-dH_j / RT) prod_i p_i^m_ij)^m
+
+    the Hougen-Watson form of [3]_ (ch. 2): the power-law rate of
+    :func:`power_law_rate_kmol_m3_h` (kinetic group and driving force, same
+    units and equilibrium) over :func:`adsorption_group`.  Vanden Bussche
+    and Froment's methanol rate [5]_ is of this form with m = 3.
+    """
+    return (power_law_rate_kmol_m3_h(temperature_k, pressure_bar, y, pre_exponential_kmol_m3_h,
+                                     activation_energy_kj_mol, orders, stoichiometry,
+                                     equilibrium_rhs)
+            / adsorption_group(temperature_k, pressure_bar, y, adsorption, denominator_power))
