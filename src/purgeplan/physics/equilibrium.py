@@ -51,6 +51,26 @@ def log10_ka_ammonia_gillespie_beattie(temperature_k: float) -> float:
             + 2001.6 / t + 2.6899)
 
 
+def reaction_enthalpy_j_mol(delta_h_298_j_mol: float, delta_cp_coefficients: Sequence[float],
+                            temperature_k: float) -> float:
+    """Standard reaction enthalpy at temperature T by Kirchhoff's law [J/mol].
+
+    Delta H(T) = Delta H(298.15 K) + int_298.15^T Delta Cp dT, Delta Cp the
+    stoichiometric sum of the ideal-gas heat capacities ([3]_, section 4.6, from memory).
+
+    Parameters
+    ----------
+    delta_h_298_j_mol : float
+        Standard reaction enthalpy at 298.15 K, from the enthalpies of formation [J/mol].
+    delta_cp_coefficients : sequence of float
+        Stoichiometric sum of Poling Cp/R coefficients [-, 1/K, ...].
+    temperature_k : float
+        Temperature [K].
+    """
+    return delta_h_298_j_mol + cp_enthalpy_integral_j_mol(delta_cp_coefficients, T_REF_K,
+                                                           temperature_k)
+
+
 def ln_k_from_formation(delta_h_298_j_mol: float, delta_s_298_j_mol_k: float,
                         delta_cp_coefficients: Sequence[float], temperature_k: float) -> float:
     """ln K of a gas reaction at temperature T from standard formation data.
@@ -72,8 +92,7 @@ def ln_k_from_formation(delta_h_298_j_mol: float, delta_s_298_j_mol_k: float,
     temperature_k : float
         Temperature [K].
     """
-    dh = delta_h_298_j_mol + cp_enthalpy_integral_j_mol(delta_cp_coefficients, T_REF_K,
-                                                         temperature_k)
+    dh = reaction_enthalpy_j_mol(delta_h_298_j_mol, delta_cp_coefficients, temperature_k)
     ds = delta_s_298_j_mol_k + cp_entropy_integral_j_mol_k(delta_cp_coefficients, T_REF_K,
                                                            temperature_k)
     return -(dh - temperature_k * ds) / (R_J_MOL_K * temperature_k)
