@@ -11,12 +11,13 @@ fixed point (:mod:`purgeplan.fixed_point`) converges them.
 from __future__ import annotations
 
 import math
-from collections.abc import Mapping
+from collections import OrderedDict
+from collections.abc import Callable, Mapping
 from functools import partial
 
 import numpy as np
 
-from .loop import Loop, Reaction
+from .loop import KELVIN, Loop, Reaction
 from .physics import compression, kinetics, reactor, real_gas, thermo
 from .physics import equilibrium as eq
 from .physics.real_gas import PengRobinsonData
@@ -95,18 +96,43 @@ def catalyst_volume_per_feed_m3_h_kmol(loop: Loop, conversion: Mapping[int, floa
 def _rate_bed_volume_per_feed(loop: Loop, i: int, conversion: float,
                               equilibrium: Mapping[int, float] | None,
                               inlet_kmol_h: Mapping[str, float] | None) -> float:
-    """Isothermal bed of a rate-based reaction per kmol/h of feed [m3 h/kmol]."""
+    """Catalyst of a rate-based reaction per kmol/h of feed [m3 h/kmol]: one isothermal bed
+    at the reactor temperature, or the adiabatic beds of ``bed_inlet_temperatures_c``."""
     r, comps = loop.reactions[i], loop.components
-    if inlet_kmol_h is None:
-        inlet_kmol_h = loop.makeup_sources[0].composition
-    y0 = np.array([max(inlet_kmol_h[c], 0.0) for c in comps])
-    y0 = y0 / y0.sum()
+    y0 = _inlet_fractions(loop, inlet_kmol_h)
+    if r.rate.get("bed_inlet_temperatures_c"):
+        return adiabatic_beds(loop, i, y0).volume_per_feed_m3_h_kmol(conversion)
     x_e = (equilibrium or {}).get(i)
     if x_e is None:
         x_e = equilibrium_conversions(loop, dict(zip(comps, y0, strict=True)))[i]
     nu = np.array([r.stoichiometry.get(c, 0.0) for c in comps])
+    return reactor.isothermal_bed_volume_per_feed_m3_h_kmol(
+        rate_function(loop, i, loop.reactor_temperature_k), y0, nu,
+        comps.index(r.key_reactant), conversion, x_e)
+
+
+def _inlet_fractions(loop: Loop, inlet_kmol_h: Mapping[str, float] | None) -> np.ndarray:
+    """Reactor inlet mole fractions in the loop's component order (the make-up's where not
+    given) [-]."""
+    if inlet_kmol_h is None:
+        inlet_kmol_h = loop.makeup_sources[0].composition
+    y0 = np.array([max(inlet_kmol_h[c], 0.0) for c in loop.components])
+    return y0 / y0.sum()
+
+
+def rate_function(loop: Loop, i: int, temperature_k: float | np.ndarray
+                  ) -> Callable[[np.ndarray], np.ndarray]:
+    """The effective rate of reaction i at a temperature, as a function of mole fractions.
+
+    rate(y) with y of shape (C, n) in the loop's component order gives the
+    rate in kmol of extent per m3 of bed per hour (the Temkin-Pyzhev rate of
+    Dyson and Simon times its effectiveness factor, :mod:`purgeplan.physics.kinetics`,
+    divided by the reaction's NH3 coefficient), at the loop pressure and at
+    ``temperature_k`` [K], one for all columns or an array of one per column.
+    """
+    r, comps = loop.reactions[i], loop.components
     at = {c: comps.index(c) for c in ("N2", "H2", "NH3")}
-    t, p = loop.reactor_temperature_k, loop.pressure_bar
+    t, p = temperature_k, loop.pressure_bar
     per_extent = r.stoichiometry["NH3"]
     eta = r.rate["effectiveness_factor"]
 
@@ -116,8 +142,61 @@ def _rate_bed_volume_per_feed(loop: Loop, i: int, conversion: float,
                   else eta)
         return factor * kinetics.temkin_pyzhev_rate_kmol_m3_h(
             t, p, y[at["N2"]], y[at["H2"]], nh3) / per_extent
-    return reactor.isothermal_bed_volume_per_feed_m3_h_kmol(
-        rate, y0, nu, comps.index(r.key_reactant), conversion, x_e)
+    return rate
+
+
+#: The beds of the last few reactor inlets seen, so that a state's equilibrium conversion
+#: and its catalyst share their boundaries: (id of the loop, reaction, inlet) -> (loop, beds),
+#: the loop kept so that its id is not reused while its entry lives.
+_BEDS: OrderedDict = OrderedDict()
+_BEDS_KEPT = 64
+
+
+def adiabatic_beds(loop: Loop, i: int, inlet_fractions: np.ndarray) -> reactor.AdiabaticBeds:
+    """The adiabatic beds of reaction i at reactor inlet mole fractions [-].
+
+    The reaction enthalpy at 298.15 K from the components' formation
+    enthalpies, their ideal-gas heat capacities, the rate of
+    :func:`rate_function` and the equilibrium condition of
+    :func:`equilibrium_rhs`, all at the local temperature.
+    """
+    y0 = np.asarray(inlet_fractions, dtype=float)
+    key = (id(loop), i, y0.tobytes())
+    hit = _BEDS.get(key)
+    if hit is not None and hit[0] is loop:
+        _BEDS.move_to_end(key)
+        return hit[1]
+    beds = _new_beds(loop, i, y0)
+    _BEDS[key] = (loop, beds)
+    if len(_BEDS) > _BEDS_KEPT:
+        _BEDS.popitem(last=False)
+    return beds
+
+
+def _new_beds(loop: Loop, i: int, inlet_fractions: np.ndarray) -> reactor.AdiabaticBeds:
+    r, comps = loop.reactions[i], loop.components
+    nu = np.array([r.stoichiometry.get(c, 0.0) for c in comps])
+    width = max(len(loop.data[c].cp_coefficients) for c in comps)
+    cp = np.array([tuple(loop.data[c].cp_coefficients)
+                   + (0.0,) * (width - len(loop.data[c].cp_coefficients)) for c in comps])
+    dh = 1000.0 * sum(v * loop.data[c].formation_enthalpy_kj_mol
+                      for c, v in r.stoichiometry.items())
+    p = loop.pressure_bar
+    return reactor.AdiabaticBeds(
+        inlet_fractions=np.asarray(inlet_fractions, dtype=float), stoichiometry=nu,
+        key=comps.index(r.key_reactant), cp_coefficients=cp, delta_h_298_j_mol=dh,
+        inlet_temperatures_k=tuple(t + KELVIN for t in r.rate["bed_inlet_temperatures_c"]),
+        rate=lambda y, t: rate_function(loop, i, t)(y),
+        equilibrium_rhs=lambda t: equilibrium_rhs(r, t, p))
+
+
+def beds_at(loop: Loop, conversion: Mapping[int, float],
+            inlet_kmol_h: Mapping[str, float]) -> list[reactor.Bed]:
+    """The adiabatic beds of the loop's rate reaction at a state, empty without beds."""
+    i = loop.rate_reaction
+    if i is None or not loop.reactions[i].rate.get("bed_inlet_temperatures_c"):
+        return []
+    return adiabatic_beds(loop, i, _inlet_fractions(loop, inlet_kmol_h)).split(conversion[i])
 
 
 def equilibrium_rhs(r: Reaction, temperature_k: float, pressure_bar: float) -> float:
@@ -147,7 +226,10 @@ def equilibrium_rhs(r: Reaction, temperature_k: float, pressure_bar: float) -> f
 def equilibrium_conversions(loop: Loop, inlet_kmol_h: Mapping[str, float]) -> dict[int, float]:
     """Equilibrium conversion of the key reactant of each reaction with equilibrium data [-].
 
-    Reactions are solved simultaneously at the reactor inlet composition.
+    Reactions are solved simultaneously at the reactor inlet composition.  A
+    reaction over adiabatic beds has instead the conversion its beds approach,
+    the last used bed's adiabatic equilibrium
+    (:meth:`purgeplan.physics.reactor.AdiabaticBeds.attainable_conversion`).
     """
     idx = [i for i, r in enumerate(loop.reactions) if r.equilibrium_method is not None]
     if not idx:
@@ -163,4 +245,6 @@ def equilibrium_conversions(loop: Loop, inlet_kmol_h: Mapping[str, float]) -> di
     for j, i in enumerate(idx):
         r = loop.reactions[i]
         out[i] = float(xi[j] * r.key_coefficient / max(inlet_kmol_h[r.key_reactant], 1e-300))
+        if r.rate is not None and r.rate.get("bed_inlet_temperatures_c"):
+            out[i] = adiabatic_beds(loop, i, n0 / n0.sum()).attainable_conversion()
     return out
