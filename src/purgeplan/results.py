@@ -169,8 +169,13 @@ def rate_warnings(loop: Loop) -> list[str]:
     inlets = loop.reactions[i].rate.get("bed_inlet_temperatures_c")
     if not inlets:
         return kinetics.fitted_range_warnings(loop.reactor_temperature_k, loop.pressure_bar)
-    found = [kinetics.fitted_range_warnings(t + KELVIN, loop.pressure_bar) for t in inlets]
-    return list(dict.fromkeys(w for ws in found for w in ws))
+    # the pressure's warning once (at any temperature in range), then each bed's inlet
+    t_lo, t_hi = kinetics.DYSON_SIMON_TEMPERATURE_RANGE_K
+    out = kinetics.fitted_range_warnings(0.5 * (t_lo + t_hi), loop.pressure_bar)
+    return out + [f"adiabatic bed {n} enters at {t + KELVIN:.4g} K, outside the {t_lo:g} to "
+                  f"{t_hi:g} K the Temkin-Pyzhev rate of Dyson and Simon (1968) was fitted "
+                  "over: it is extrapolated"
+                  for n, t in enumerate(inlets, start=1) if not t_lo <= t + KELVIN <= t_hi]
 
 
 def bed_warnings(beds: list[dict]) -> list[str]:

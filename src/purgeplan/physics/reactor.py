@@ -303,9 +303,12 @@ class AdiabaticBeds:
     def rate_on_adiabat(self, inlet_conversion: float, inlet_temperature_k: float,
                         conversion) -> np.ndarray:
         """Rate along an adiabatic bed at conversions X [kmol/(m3 h)]."""
-        x = np.atleast_1d(np.asarray(conversion, dtype=float))
-        t = self.temperature_k(inlet_conversion, inlet_temperature_k, x)
-        return np.asarray(self.rate(self.fractions(x), t), dtype=float).ravel()
+        if np.ndim(conversion) == 0:     # one point: the plain-float temperature
+            t = self.temperature_k(inlet_conversion, inlet_temperature_k, float(conversion))
+        else:
+            t = self.temperature_k(inlet_conversion, inlet_temperature_k,
+                                   np.asarray(conversion, dtype=float))
+        return np.asarray(self.rate(self.fractions(conversion), t), dtype=float).ravel()
 
     def rate_at(self, temperature_k: float, conversion) -> np.ndarray:
         """Rate of the gas at conversions X and one temperature [kmol/(m3 h)]."""
@@ -413,7 +416,7 @@ class AdiabaticBeds:
         falls = [j for j in range(len(grid) - 1) if values[j] > 0.0 >= values[j + 1]]
         if falls:
             j = falls[-1]
-            # the total catalyst is stationary in the boundary: 1e-10 in X is ample
+            # the rule's boundary is near the least catalyst, where the total is flat
             out.append(brentq(lambda x: float(h(x)[0]), grid[j], grid[j + 1],
                               xtol=1e-10, rtol=1e-10))
         if values[-1] > 0.0:
