@@ -192,6 +192,22 @@ def ln_fugacity_term(stoichiometry: Mapping[str, float], fugacity: Mapping[str, 
     return sum(nu * math.log(fugacity[c]) for c, nu in stoichiometry.items() if c in fugacity)
 
 
+def equilibrium_residual(moles_and_coefficients, total_moles: float, dnu: float, rhs: float,
+                         floor: float = 1e-300) -> float:
+    """sum_i nu_i ln n_i - dnu ln n_total - rhs of one reaction: zero at equilibrium,
+    negative short of it [-].
+
+    The condition of :func:`equilibrium_extents_kmol_h` in plain floats, over the
+    (n_i, nu_i) of the species that take part; moles below ``floor`` count as
+    ``floor`` (a product absent at the inlet).
+    """
+    s = 0.0
+    log = math.log
+    for n, v in moles_and_coefficients:
+        s += v * log(max(n, floor))
+    return s - dnu * log(total_moles) - rhs
+
+
 def _single_extent(n0: list, row: list, rhs: float, floor: float) -> float:
     """Equilibrium extent of one reaction (the residual above in plain floats) [kmol/h].
 
@@ -201,13 +217,10 @@ def _single_extent(n0: list, row: list, rhs: float, floor: float) -> float:
     """
     active = [(n, v) for n, v in zip(n0, row, strict=True) if v != 0.0]
     total0, dnu = sum(n0), sum(row)
-    log = math.log
 
     def residual(x: float) -> float:
-        s = 0.0
-        for n, v in active:
-            s += v * log(max(n + v * x, floor))
-        return s - dnu * log(total0 + dnu * x) - rhs
+        return equilibrium_residual([(n + v * x, v) for n, v in active], total0 + dnu * x,
+                                    dnu, rhs, floor)
 
     hi = min((n / -v for n, v in active if v < 0), default=math.inf)
     lo = -min((n / v for n, v in active if v > 0), default=math.inf)

@@ -319,9 +319,9 @@ class AdiabaticBeds:
         """sum nu ln n - dnu ln n_total - rhs(T): negative short of equilibrium [-]."""
         n = self._moles_plain(conversion)
         nu, dnu = self._plain[2], self._plain[5]
-        log = math.log
-        total = sum(v * log(max(m, 1e-300)) for m, v in zip(n, nu, strict=True) if v != 0.0)
-        return total - dnu * log(sum(n)) - self.equilibrium_rhs(temperature_k)
+        return equilibrium.equilibrium_residual(
+            [(m, v) for m, v in zip(n, nu, strict=True) if v != 0.0], sum(n), dnu,
+            self.equilibrium_rhs(temperature_k))
 
     def equilibrium_conversion(self, inlet_conversion: float,
                                inlet_temperature_k: float) -> float:
