@@ -919,6 +919,30 @@ def test_separator_cooling_edges_are_handled(tmp_path, old, new, expected, field
         assert field in err, err
 
 
+DEMO_RATE = 'rate = { law = "temkin_pyzhev", effectiveness_factor = "dyson_simon" }'
+
+
+@pytest.mark.parametrize("beds, expected", [
+    # adiabatic beds under the demo's rate table, at and past the edges of what is accepted
+    ("[380, 400, 420]", 0), ("[400.0]", 0), ("[200, 600]", 0),
+    ("[400, 400, 400, 400, 400, 400]", 0),
+    ("[]", 2), ("[400, 400, 400, 400, 400, 400, 400]", 2), ("[199.99]", 2), ("[600.01]", 2),
+    ("[400, nan]", 2), ("[inf]", 2), ('["400"]', 2), ("400", 2), ("[true]", 2), ("[[400]]", 2),
+    ("[1e308]", 2), ("[-273.15]", 2),
+])
+def test_adiabatic_bed_edges_are_handled(tmp_path, beds, expected):
+    """The demo's converter as adiabatic beds at extreme inlet temperatures: accepted with
+    a steady state, or refused in one line naming the key."""
+    assert SEED_TEXT["ammonia"].count(DEMO_RATE) == 1
+    text = SEED_TEXT["ammonia"].replace(
+        DEMO_RATE, DEMO_RATE[:-2] + f", bed_inlet_temperatures_c = {beds} }}")
+    status, _, err = check_case_file(
+        GeneratedCase("ammonia", text.encode(), [f"bed_inlet_temperatures_c = {beds}"]), tmp_path)
+    assert status == expected, err
+    if expected == 2:
+        assert "reactions[0].rate.bed_inlet_temperatures_c" in err, err
+
+
 @pytest.mark.parametrize("drop, expected", [("1e-15", 2), ("1e-300", 2), ("0.001", 0)])
 def test_tiny_pressure_drop_is_handled(tmp_path, drop, expected):
     """A drop so small that the pressure ratio is 1.0 is refused; the smallest allowed works."""

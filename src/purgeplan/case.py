@@ -54,6 +54,11 @@ RatePerYear = _num(ge=0, lt=1)
 LifeYears = _num(ge=1, le=100)
 CatalystLifeYears = _num(ge=0.01, le=100)
 VesselDiameterM = _num(ge=0.1, le=20)
+#: Inlet temperature of an adiabatic catalyst bed [degC]: synthesis catalysts work from
+#: about 300 to 550 degC (common practice); the range leaves room on both sides.
+BedInletTemperatureC = _num(ge=200, le=600)
+#: Most adiabatic beds in series a converter may have (common practice: two to four).
+MAX_BEDS = 6
 Name = Annotated[str, Field(min_length=1, max_length=200)]
 
 MAX_CASE_BYTES = 2_000_000
@@ -118,7 +123,8 @@ RATE_CONSTANT_KEYS = ("pre_exponential_kmol_m3_h", "activation_energy_kj_mol", "
 
 
 class RateSpec(_Strict):
-    """A catalyst bed sized from a rate expression (per_pass = "rate")."""
+    """A catalyst bed sized from a rate expression (per_pass = "rate"), isothermal or
+    adiabatic beds in series with cooling between them."""
 
     law: Literal["temkin_pyzhev", "power_law", "langmuir_hinshelwood"] = "temkin_pyzhev"
     effectiveness_factor: UpToOne | Literal["dyson_simon"] = 1.0
@@ -130,6 +136,10 @@ class RateSpec(_Strict):
     conversion_min: OpenFraction = 0.02
     conversion_max: OpenFraction = 0.95
     approach_to_equilibrium_max: OpenFraction | None = None
+    #: Adiabatic beds in series, each entered at its temperature after an inter-bed cooler;
+    #: None: one isothermal bed at the reactor temperature.
+    bed_inlet_temperatures_c: list[BedInletTemperatureC] | None = Field(
+        default=None, min_length=1, max_length=MAX_BEDS)
 
 
 class ReactionSpec(_Strict):

@@ -48,6 +48,7 @@ def check_property_data(case: Case) -> None:
         _check_gillespie_beattie(path, spec)
         _check_fugacity(path, spec, t_reactor, case.loop.pressure_bar)
         _check_rate_constants_at(path, spec, t_reactor)
+        _check_bed_enthalpies(path, spec, data)
     condensate_vapour_ratio(case, data)
     separator_k_values(case, data)
     peng_robinson_data(case, data)
@@ -156,6 +157,19 @@ def formation_terms(spec: ReactionSpec, data: Mapping[str, ComponentData]
     dcp = tuple(sum(v * (data[c].cp_coefficients + (0.0,) * width)[k] for c, v in nu.items())
                 for k in range(width))
     return dh, ds, dcp
+
+
+def _check_bed_enthalpies(path: str, spec: ReactionSpec,
+                          data: Mapping[str, ComponentData]) -> None:
+    """Adiabatic beds need the reaction enthalpy, from the reactants' and products'
+    enthalpies of formation."""
+    if spec.rate is None or spec.rate.bed_inlet_temperatures_c is None:
+        return
+    for c in spec.stoichiometry:
+        if data[c].formation_enthalpy_kj_mol is None:
+            raise CaseError(f"components.{key_part(c)}.formation_enthalpy_kj_mol",
+                            f"needed by the adiabatic beds of {path}.rate "
+                            "(their temperature rise): give it")
 
 
 def _check_gillespie_beattie(path: str, spec: ReactionSpec) -> None:

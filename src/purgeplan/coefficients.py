@@ -12,12 +12,13 @@ fixed point (:mod:`purgeplan.fixed_point`) converges them.
 from __future__ import annotations
 
 import math
+from collections import OrderedDict
 from collections.abc import Callable, Mapping
 from functools import partial
 
 import numpy as np
 
-from .loop import Loop, Reaction
+from .loop import KELVIN, Loop, Reaction
 from .physics import compression, kinetics, reactor, real_gas, separation, thermo
 from .physics import equilibrium as eq
 from .physics.real_gas import PengRobinsonData
@@ -96,12 +97,12 @@ def catalyst_volume_per_feed_m3_h_kmol(loop: Loop, conversion: Mapping[int, floa
 def _rate_bed_volume_per_feed(loop: Loop, i: int, conversion: float,
                               equilibrium: Mapping[int, float] | None,
                               inlet_kmol_h: Mapping[str, float] | None) -> float:
-    """Isothermal bed of a rate-based reaction per kmol/h of feed [m3 h/kmol]."""
+    """Catalyst of a rate-based reaction per kmol/h of feed [m3 h/kmol]: one isothermal bed
+    at the reactor temperature, or the adiabatic beds of ``bed_inlet_temperatures_c``."""
     r, comps = loop.reactions[i], loop.components
-    if inlet_kmol_h is None:
-        inlet_kmol_h = loop.makeup_sources[0].composition
-    y0 = np.array([max(inlet_kmol_h[c], 0.0) for c in comps])
-    y0 = y0 / y0.sum()
+    y0 = _inlet_fractions(loop, inlet_kmol_h)
+    if r.rate.get("bed_inlet_temperatures_c"):
+        return adiabatic_beds(loop, i, y0).volume_per_feed_m3_h_kmol(conversion)
     x_e = (equilibrium or {}).get(i)
     if x_e is None:
         x_e = equilibrium_conversions(loop, dict(zip(comps, y0, strict=True)))[i]
@@ -111,13 +112,24 @@ def _rate_bed_volume_per_feed(loop: Loop, i: int, conversion: float,
         comps.index(r.key_reactant), conversion, x_e)
 
 
-def rate_function(loop: Loop, i: int, temperature_k: float) -> Callable[[np.ndarray], np.ndarray]:
+def _inlet_fractions(loop: Loop, inlet_kmol_h: Mapping[str, float] | None) -> np.ndarray:
+    """Reactor inlet mole fractions in the loop's component order (the make-up's where not
+    given) [-]."""
+    if inlet_kmol_h is None:
+        inlet_kmol_h = loop.makeup_sources[0].composition
+    y0 = np.array([max(inlet_kmol_h[c], 0.0) for c in loop.components])
+    return y0 / y0.sum()
+
+
+def rate_function(loop: Loop, i: int, temperature_k: float | np.ndarray
+                  ) -> Callable[[np.ndarray], np.ndarray]:
     """The effective rate of reaction ``i`` at a bed temperature, as a function of the
     mole fractions [kmol of extent/(m3 bed h)].
 
     The returned ``rate(y)`` takes mole fractions of shape (C, n) in the
-    order of ``loop.components`` at the loop pressure and includes the
-    effectiveness factor.  The law is the case's ``rate.law``:
+    order of ``loop.components`` at the loop pressure and at ``temperature_k``
+    [K], one for all columns or an array of one per column (along an
+    adiabatic bed), and includes the effectiveness factor.  The law is the case's ``rate.law``:
     ``temkin_pyzhev`` (:func:`purgeplan.physics.kinetics.temkin_pyzhev_rate_kmol_m3_h`
     per unit of extent), ``power_law``
     (:func:`purgeplan.physics.kinetics.power_law_rate_kmol_m3_h`) or
@@ -141,6 +153,9 @@ def rate_function(loop: Loop, i: int, temperature_k: float) -> Callable[[np.ndar
             return factor * kinetics.temkin_pyzhev_rate_kmol_m3_h(
                 t, p, y[at["N2"]], y[at["H2"]], nh3) / per_extent
         return temkin
+    if np.ndim(t) > 0:  # one temperature per column: each column at its own
+        columns = [rate_function(loop, i, float(tk)) for tk in np.asarray(t)]
+        return lambda y: np.array([f(y[:, [k]])[0] for k, f in enumerate(columns)])
     rhs = (r.equilibrium_rhs if t == loop.reactor_temperature_k and r.equilibrium_rhs is not None
            else equilibrium_rhs(r, t, p))
     nu = np.array([r.stoichiometry.get(c, 0.0) for c in comps])
@@ -155,6 +170,60 @@ def rate_function(loop: Loop, i: int, temperature_k: float) -> Callable[[np.ndar
     power = spec["denominator_power"]
     return lambda y: eta * kinetics.langmuir_hinshelwood_rate_kmol_m3_h(
         t, p, y, *constants, terms, power)
+
+
+#: The beds of the last few reactor inlets seen, so that a state's equilibrium conversion
+#: and its catalyst share their boundaries: (id of the loop, reaction, inlet) -> (loop, beds),
+#: the loop kept so that its id is not reused while its entry lives.
+_BEDS: OrderedDict = OrderedDict()
+_BEDS_KEPT = 64
+
+
+def adiabatic_beds(loop: Loop, i: int, inlet_fractions: np.ndarray) -> reactor.AdiabaticBeds:
+    """The adiabatic beds of reaction i at reactor inlet mole fractions [-].
+
+    The reaction enthalpy at 298.15 K from the components' formation
+    enthalpies, their ideal-gas heat capacities, the rate of
+    :func:`rate_function` and the equilibrium condition of
+    :func:`equilibrium_rhs`, all at the local temperature.
+    """
+    y0 = np.asarray(inlet_fractions, dtype=float)
+    key = (id(loop), i, y0.tobytes())
+    hit = _BEDS.get(key)
+    if hit is not None and hit[0] is loop:
+        _BEDS.move_to_end(key)
+        return hit[1]
+    beds = _new_beds(loop, i, y0)
+    _BEDS[key] = (loop, beds)
+    if len(_BEDS) > _BEDS_KEPT:
+        _BEDS.popitem(last=False)
+    return beds
+
+
+def _new_beds(loop: Loop, i: int, inlet_fractions: np.ndarray) -> reactor.AdiabaticBeds:
+    r, comps = loop.reactions[i], loop.components
+    nu = np.array([r.stoichiometry.get(c, 0.0) for c in comps])
+    width = max(len(loop.data[c].cp_coefficients) for c in comps)
+    cp = np.array([tuple(loop.data[c].cp_coefficients)
+                   + (0.0,) * (width - len(loop.data[c].cp_coefficients)) for c in comps])
+    dh = 1000.0 * sum(v * loop.data[c].formation_enthalpy_kj_mol
+                      for c, v in r.stoichiometry.items())
+    p = loop.pressure_bar
+    return reactor.AdiabaticBeds(
+        inlet_fractions=np.asarray(inlet_fractions, dtype=float), stoichiometry=nu,
+        key=comps.index(r.key_reactant), cp_coefficients=cp, delta_h_298_j_mol=dh,
+        inlet_temperatures_k=tuple(t + KELVIN for t in r.rate["bed_inlet_temperatures_c"]),
+        rate=lambda y, t: rate_function(loop, i, t)(y),
+        equilibrium_rhs=lambda t: equilibrium_rhs(r, t, p))
+
+
+def beds_at(loop: Loop, conversion: Mapping[int, float],
+            inlet_kmol_h: Mapping[str, float]) -> list[reactor.Bed]:
+    """The adiabatic beds of the loop's rate reaction at a state, empty without beds."""
+    i = loop.rate_reaction
+    if i is None or not loop.reactions[i].rate.get("bed_inlet_temperatures_c"):
+        return []
+    return adiabatic_beds(loop, i, _inlet_fractions(loop, inlet_kmol_h)).split(conversion[i])
 
 
 def equilibrium_rhs(r: Reaction, temperature_k: float, pressure_bar: float) -> float:
@@ -184,7 +253,10 @@ def equilibrium_rhs(r: Reaction, temperature_k: float, pressure_bar: float) -> f
 def equilibrium_conversions(loop: Loop, inlet_kmol_h: Mapping[str, float]) -> dict[int, float]:
     """Equilibrium conversion of the key reactant of each reaction with equilibrium data [-].
 
-    Reactions are solved simultaneously at the reactor inlet composition.
+    Reactions are solved simultaneously at the reactor inlet composition.  A
+    reaction over adiabatic beds has instead the conversion its beds approach,
+    the last used bed's adiabatic equilibrium
+    (:meth:`purgeplan.physics.reactor.AdiabaticBeds.attainable_conversion`).
     """
     idx = [i for i, r in enumerate(loop.reactions) if r.equilibrium_method is not None]
     if not idx:
@@ -200,6 +272,8 @@ def equilibrium_conversions(loop: Loop, inlet_kmol_h: Mapping[str, float]) -> di
     for j, i in enumerate(idx):
         r = loop.reactions[i]
         out[i] = float(xi[j] * r.key_coefficient / max(inlet_kmol_h[r.key_reactant], 1e-300))
+        if r.rate is not None and r.rate.get("bed_inlet_temperatures_c"):
+            out[i] = adiabatic_beds(loop, i, n0 / n0.sum()).attainable_conversion()
     return out
 
 

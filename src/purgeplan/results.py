@@ -4,8 +4,8 @@ Both the direct engine and the Pyomo solve hand their raw values (flows,
 extents, source flows) to :func:`make_state`, which evaluates the stated
 quantities and cost lines on numbers and recomputes the balances
 independently of the equations.  States evaluated during a search leave the
-balance closure out (NaN) for speed; :func:`with_balances` adds it to every
-state that is reported.
+balance closure and the table of adiabatic beds out (NaN, empty) for speed;
+:func:`with_balances` adds them to every state that is reported.
 """
 
 from __future__ import annotations
@@ -14,9 +14,9 @@ import dataclasses
 import math
 from dataclasses import dataclass, field
 
-from . import costs
+from . import coefficients, costs
 from .equations import LoopVariables, quantities
-from .loop import Loop
+from .loop import KELVIN, Loop
 from .physics import kinetics
 
 
@@ -50,6 +50,9 @@ class LoopState:
     warnings: list[str] = field(default_factory=list)
     #: Every reactor-inlet ratio the case defines, by name [-].
     inlet_ratio: dict[str, float] = field(default_factory=dict)
+    #: The adiabatic beds of the converter in flow order (see :func:`bed_table`); empty for
+    #: an isothermal bed, and in states evaluated during a search.
+    beds: list[dict] = field(default_factory=list)
 
     @property
     def first_reaction_conversion(self) -> float:
@@ -157,12 +160,51 @@ def unit_warnings(loop: Loop) -> list[str]:
 
 
 def rate_warnings(loop: Loop) -> list[str]:
-    """A warning where a Temkin-Pyzhev rate works outside the conditions it was fitted over
-    (a rate whose constants the case gives carries no fitted range here)."""
+    """A warning where a Temkin-Pyzhev rate works outside the conditions it was fitted over:
+    the reactor temperature of an isothermal bed, each inlet temperature of adiabatic beds
+    (their outlets are checked on the state, :func:`bed_warnings`); a rate whose
+    constants the case gives carries no fitted range here."""
     i = loop.rate_reaction
     if i is None or loop.reactions[i].rate["law"] != "temkin_pyzhev":
         return []
-    return kinetics.fitted_range_warnings(loop.reactor_temperature_k, loop.pressure_bar)
+    inlets = loop.reactions[i].rate.get("bed_inlet_temperatures_c")
+    if not inlets:
+        return kinetics.fitted_range_warnings(loop.reactor_temperature_k, loop.pressure_bar)
+    # the pressure's warning once (at any temperature in range), then each bed's inlet
+    t_lo, t_hi = kinetics.DYSON_SIMON_TEMPERATURE_RANGE_K
+    out = kinetics.fitted_range_warnings(0.5 * (t_lo + t_hi), loop.pressure_bar)
+    return out + [f"adiabatic bed {n} enters at {t + KELVIN:.4g} K, outside the {t_lo:g} to "
+                  f"{t_hi:g} K the Temkin-Pyzhev rate of Dyson and Simon (1968) was fitted "
+                  "over: it is extrapolated"
+                  for n, t in enumerate(inlets, start=1) if not t_lo <= t + KELVIN <= t_hi]
+
+
+def bed_warnings(loop: Loop, beds: list[dict]) -> list[str]:
+    """A warning for each adiabatic bed whose outlet leaves the temperatures the rate of
+    Dyson and Simon was fitted over (a Temkin-Pyzhev rate only)."""
+    i = loop.rate_reaction
+    if i is None or loop.reactions[i].rate["law"] != "temkin_pyzhev":
+        return []
+    t_lo, t_hi = kinetics.DYSON_SIMON_TEMPERATURE_RANGE_K
+    return [f"adiabatic bed {n} leaves at {b['outlet_temperature_c'] + KELVIN:.4g} K, outside "
+            f"the {t_lo:g} to {t_hi:g} K the Temkin-Pyzhev rate of Dyson and Simon (1968) was "
+            "fitted over: it is extrapolated"
+            for n, b in enumerate(beds, start=1)
+            if not t_lo <= b["outlet_temperature_c"] + KELVIN <= t_hi]
+
+
+def bed_table(loop: Loop, conversion: dict[int, float],
+              flows: dict[str, dict[str, float]]) -> list[dict]:
+    """Each adiabatic bed at a state: inlet and outlet temperature [degC], inlet, outlet
+    and adiabatic equilibrium conversion of the key reactant counted from the converter
+    feed [-], and its catalyst [m3].  Empty without beds."""
+    beds = coefficients.beds_at(loop, conversion, flows["reactor_feed"])
+    feed = sum(flows["reactor_feed"].values())
+    return [{"inlet_temperature_c": b.inlet_temperature_k - KELVIN,
+             "outlet_temperature_c": b.outlet_temperature_k - KELVIN,
+             "inlet_conversion": b.inlet_conversion, "outlet_conversion": b.outlet_conversion,
+             "equilibrium_conversion": b.equilibrium_conversion,
+             "catalyst_m3": b.volume_per_feed_m3_h_kmol * feed} for b in beds]
 
 
 def costing(loop: Loop) -> tuple[list, dict[str, float]]:
@@ -201,6 +243,7 @@ def make_state(loop: Loop, purge_fraction: float, conversion: dict[int, float],
     consumed_key = sum(-r.stoichiometry[key] * extents[i] for i, r in enumerate(loop.reactions)
                        if key in r.stoichiometry)
     species, element = _balances(loop, flows, extents) if balances else (math.nan, math.nan)
+    beds = bed_table(loop, conversion, flows) if balances else []
     ratios = inlet_ratios(loop, flows)
     return LoopState(
         name=loop.name, purge_fraction=float(purge_fraction),
@@ -218,12 +261,14 @@ def make_state(loop: Loop, purge_fraction: float, conversion: dict[int, float],
         catalyst_volume_per_feed_m3_h_kmol=float(volume_per_feed),
         equilibrium_conversion=dict(equilibrium_conversion or {}), route=route,
         warnings=(costs.price_warnings(loop) + unit_warnings(loop) + rate_warnings(loop)
-                  + ratio_warnings(loop, ratios)),
-        inlet_ratio=ratios)
+                  + ratio_warnings(loop, ratios) + bed_warnings(loop, beds)),
+        inlet_ratio=ratios, beds=beds)
 
 
 def with_balances(loop: Loop, state: LoopState) -> LoopState:
     """The state with its species and element balance closure evaluated."""
     species, element = _balances(loop, state.flows, state.extents)
+    beds = bed_table(loop, state.conversion, state.flows)
+    warnings = state.warnings + [w for w in bed_warnings(loop, beds) if w not in state.warnings]
     return dataclasses.replace(state, species_balance_error=species,
-                               element_balance_error=element)
+                               element_balance_error=element, beds=beds, warnings=warnings)

@@ -90,7 +90,9 @@ def alternative_record(name: str, loop: Loop, opt: Optimum, choices: dict | None
                        "per_pass_conversion": s.conversion[i],
                        "equilibrium_conversion": s.equilibrium_conversion.get(i),
                        "approach_to_equilibrium": s.approach_to_equilibrium.get(i),
-                       "extent_kmol_h": s.extents[i]} for i, r in enumerate(loop.reactions)],
+                       "extent_kmol_h": s.extents[i],
+                       **({"beds": list(s.beds)} if s.beds and i == loop.rate_reaction else {})}
+                      for i, r in enumerate(loop.reactions)],
         "streams": s.flows,
         "stream_conditions": {name: {"pressure_bar": pc[0], "temperature_c": pc[1],
                                      "total_kmol_h": sum(s.flows[name].values())}

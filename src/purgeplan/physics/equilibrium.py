@@ -51,6 +51,26 @@ def log10_ka_ammonia_gillespie_beattie(temperature_k: float) -> float:
             + 2001.6 / t + 2.6899)
 
 
+def reaction_enthalpy_j_mol(delta_h_298_j_mol: float, delta_cp_coefficients: Sequence[float],
+                            temperature_k: float) -> float:
+    """Standard reaction enthalpy at temperature T by Kirchhoff's law [J/mol].
+
+    Delta H(T) = Delta H(298.15 K) + int_298.15^T Delta Cp dT, Delta Cp the
+    stoichiometric sum of the ideal-gas heat capacities ([3]_, section 4.6, from memory).
+
+    Parameters
+    ----------
+    delta_h_298_j_mol : float
+        Standard reaction enthalpy at 298.15 K, from the enthalpies of formation [J/mol].
+    delta_cp_coefficients : sequence of float
+        Stoichiometric sum of Poling Cp/R coefficients [-, 1/K, ...].
+    temperature_k : float
+        Temperature [K].
+    """
+    return delta_h_298_j_mol + cp_enthalpy_integral_j_mol(delta_cp_coefficients, T_REF_K,
+                                                           temperature_k)
+
+
 def ln_k_from_formation(delta_h_298_j_mol: float, delta_s_298_j_mol_k: float,
                         delta_cp_coefficients: Sequence[float], temperature_k: float) -> float:
     """ln K of a gas reaction at temperature T from standard formation data.
@@ -72,8 +92,7 @@ def ln_k_from_formation(delta_h_298_j_mol: float, delta_s_298_j_mol_k: float,
     temperature_k : float
         Temperature [K].
     """
-    dh = delta_h_298_j_mol + cp_enthalpy_integral_j_mol(delta_cp_coefficients, T_REF_K,
-                                                         temperature_k)
+    dh = reaction_enthalpy_j_mol(delta_h_298_j_mol, delta_cp_coefficients, temperature_k)
     ds = delta_s_298_j_mol_k + cp_entropy_integral_j_mol_k(delta_cp_coefficients, T_REF_K,
                                                            temperature_k)
     return -(dh - temperature_k * ds) / (R_J_MOL_K * temperature_k)
@@ -173,6 +192,22 @@ def ln_fugacity_term(stoichiometry: Mapping[str, float], fugacity: Mapping[str, 
     return sum(nu * math.log(fugacity[c]) for c, nu in stoichiometry.items() if c in fugacity)
 
 
+def equilibrium_residual(moles_and_coefficients, total_moles: float, dnu: float, rhs: float,
+                         floor: float = 1e-300) -> float:
+    """sum_i nu_i ln n_i - dnu ln n_total - rhs of one reaction: zero at equilibrium,
+    negative short of it [-].
+
+    The condition of :func:`equilibrium_extents_kmol_h` in plain floats, over the
+    (n_i, nu_i) of the species that take part; moles below ``floor`` count as
+    ``floor`` (a product absent at the inlet).
+    """
+    s = 0.0
+    log = math.log
+    for n, v in moles_and_coefficients:
+        s += v * log(max(n, floor))
+    return s - dnu * log(total_moles) - rhs
+
+
 def _single_extent(n0: list, row: list, rhs: float, floor: float) -> float:
     """Equilibrium extent of one reaction (the residual above in plain floats) [kmol/h].
 
@@ -182,13 +217,10 @@ def _single_extent(n0: list, row: list, rhs: float, floor: float) -> float:
     """
     active = [(n, v) for n, v in zip(n0, row, strict=True) if v != 0.0]
     total0, dnu = sum(n0), sum(row)
-    log = math.log
 
     def residual(x: float) -> float:
-        s = 0.0
-        for n, v in active:
-            s += v * log(max(n + v * x, floor))
-        return s - dnu * log(total0 + dnu * x) - rhs
+        return equilibrium_residual([(n + v * x, v) for n, v in active], total0 + dnu * x,
+                                    dnu, rhs, floor)
 
     hi = min((n / -v for n, v in active if v < 0), default=math.inf)
     lo = -min((n / v for n, v in active if v > 0), default=math.inf)

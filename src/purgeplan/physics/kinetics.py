@@ -56,10 +56,15 @@ def temkin_pyzhev_rate_kmol_m3_h(temperature_k: float, pressure_bar: float, y_n2
     Dyson and Simon), Ka of Gillespie and Beattie for 1/2 N2 + 3/2 H2 = NH3,
     alpha = 0.5 and the constants of eq. 19 of [1]_.  The rate is zero at
     the equilibrium of the same Ka and fugacity coefficients, and positive
-    below it.  Mole fractions may be arrays.  Without ammonia the forward
-    term is unbounded (a property of the Temkin form).
+    below it.  Mole fractions may be arrays, and so may the temperature (one
+    per column of mole fractions).  Without ammonia the forward term is
+    unbounded (a property of the Temkin form).
     """
-    k, ka, f_n2, f_h2, f_nh3 = _temkin_pyzhev_constants(temperature_k, pressure_bar)
+    if np.ndim(temperature_k) == 0:
+        k, ka, f_n2, f_h2, f_nh3 = _temkin_pyzhev_constants(float(temperature_k), pressure_bar)
+    else:
+        k, ka, f_n2, f_h2, f_nh3 = np.array([_temkin_pyzhev_constants(float(t), pressure_bar)
+                                             for t in np.ravel(temperature_k)]).T
     a_n2 = f_n2 * np.asarray(y_n2, dtype=float)
     a_h2 = f_h2 * np.asarray(y_h2, dtype=float)
     a_nh3 = f_nh3 * np.asarray(y_nh3, dtype=float)
