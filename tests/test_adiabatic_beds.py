@@ -347,7 +347,7 @@ def test_three_bed_loop_reaches_a_steady_state_that_closes_its_balances():
         assert b["inlet_conversion"] == a["outlet_conversion"]
     assert s.beds[-1]["outlet_conversion"] == pytest.approx(0.2, rel=1e-12)
     assert sum(b["catalyst_m3"] for b in s.beds) == pytest.approx(
-        s.quantities["reactor_volume_m3"], rel=1e-12)
+        s.quantities["catalyst_volume_m3"], rel=1e-12)
     beds = _beds(LOOP, s.flows["reactor_feed"])
     assert s.equilibrium_conversion[0] == pytest.approx(beds.attainable_conversion(), rel=1e-12)
     for b in s.beds:
