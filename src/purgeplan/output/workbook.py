@@ -1301,11 +1301,12 @@ def _streams_sheet(ws: Worksheet, study: StudyResult, refs: _Refs) -> None:
         row += 1
         state = alt.optimum.state
         for i, r in enumerate(loop.reactions):  # every reaction's conversion, not the key's only
-            _text(ws, row, 1, f"Per-pass conversion of {r.key_reactant}, {r.name} [%]")
+            _text(ws, row, 1, f"Per-pass conversion of {r.key_reactant}, {r.name} [%]",
+                  wrap=True)
             _number(ws, row, 2, state.conversion[i], FMT_PCT_2)
             equilibrium = state.equilibrium_conversion.get(i)
             if equilibrium is not None:
-                _text(ws, row, 3, "at equilibrium [%]")
+                _text(ws, row, 3, "equilibrium [%]", wrap=True)
                 _number(ws, row, 4, equilibrium, FMT_PCT_2)
             row += 1
         _header(ws, row, ["Stream"] + [STREAM_LABELS.get(s, s) for s in streams])
