@@ -95,6 +95,37 @@ def loop_from_text(text: str):
     return purgeplan.build_loop(purgeplan.parse_case_text(text))
 
 
+def assert_no_cheaper_nearby(loop, state, points: int = 31, top: float | None = None) -> None:
+    """An optimum of a loop whose per-pass conversion is a decision against independent
+    evaluations: the direct engine reproduces its TAC and finds none lower on a
+    ``points`` x ``points`` grid of purge fraction (a/2 to 2a) and conversion (0.8 to 1.2
+    X, below equilibrium), nor does the LP on 101 conversions from X/2 to ``top``
+    (default 1.5 X) at its purge fraction."""
+    import math
+
+    import numpy as np
+
+    from purgeplan.errors import NoSteadyStateError
+    from purgeplan.reduced_space import LoopLP
+
+    a, x = state.purge_fraction, state.conversion[0]
+
+    def tac(aa, xx):
+        try:
+            return purgeplan.steady_state(loop, aa, conversion={0: xx}).tac_per_year
+        except NoSteadyStateError:
+            return math.inf
+
+    assert tac(a, x) == pytest.approx(state.tac_per_year, rel=1e-9)
+    grid = min(tac(aa, xx) for aa in np.geomspace(a / 2, 2 * a, points)
+               for xx in np.linspace(0.8 * x, min(1.2 * x, 0.999 * state.equilibrium_conversion[0]),
+                                     points))
+    assert state.tac_per_year <= grid * (1 + 1e-9)
+    solver = LoopLP(loop)
+    scan = [solver.tac(a, xx) for xx in np.linspace(0.5 * x, 1.5 * x if top is None else top, 101)]
+    assert state.tac_per_year <= min(scan) * (1 + 1e-9)
+
+
 @pytest.fixture(scope="session")
 def make_loop():
     """Build a loop from the keyword arguments of :func:`case_toml`."""
