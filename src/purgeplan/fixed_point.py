@@ -338,49 +338,17 @@ class _Separator:
         of the two moves."""
         if not self.active:
             return solve(conversion, work, None)
-        history: list = []
-        low, high = VAPOUR_PER_LIQUID_LOG_RANGE  # the bracket of the root in ln(V/L)
-        sides: dict[bool, list] = {True: [], False: []}  # (ln V/L, |residual|) either side
         x = [conversion[i] for i in sorted(conversion)]
         self._predict(x)
-        held = None
+        done = None
         if self.can_hold and self.tie_slope is not None:  # a jump at the last solve
-            held = self._hold(solve, conversion, work, tolerance, *VAPOUR_PER_LIQUID_LOG_RANGE,
+            done = self._hold(solve, conversion, work, tolerance, *VAPOUR_PER_LIQUID_LOG_RANGE,
                               start=math.log(self.ratio))
-            if held is None:
+            if done is None:
                 self.tie_slope = None
-        if held is not None:
-            solved, residual = held
-            if solved is None or _negative(solved[0]):
-                return solved
-        for _ in range(0 if held is not None else self.max_steps):
-            solved = self._call(solve, conversion, work)
-            if solved is None or _negative(solved[0]):
-                return solved
-            residual = _log_ratio(solved[0]) - math.log(self.ratio)
-            if abs(residual) < tolerance:
-                break
-            u = math.log(self.ratio)
-            sides[residual > 0.0].append((u, abs(residual)))
-            low, high = (u, high) if residual > 0.0 else (low, u)
-            if self.can_hold and _jump(sides[True], sides[False]):
-                self.tie_slope = None
-                solved, residual = self._hold(solve, conversion, work, tolerance, low, high)
-                if solved is None or _negative(solved[0]):
-                    return solved
-                break
-            if high - low < 1e-12 * max(1.0, abs(u)):
-                break
-            u = secant_step(history, u, residual, self.slope, bounds=(low, high))
-            if not low < u < high:  # the secant left the bracket: bisect it
-                u = 0.5 * (low + high)
-            slope = _slope(history)
-            self.slope = slope if slope is not None and slope < 0.0 else self.slope
-            self.ratio = math.exp(u)
-        else:
-            if held is None:
-                raise _SeparatorDiverged("the separator's vapour-to-liquid ratio did not "
-                                         f"converge in {self.max_steps} steps")
+        solved, residual = done or self._secant(solve, conversion, work, tolerance)
+        if solved is None or _negative(solved[0]):
+            return solved
         self._settle(x)
         flows = solved[0]
         k_new = (self.k if self.loop.separator_k_values is not None
@@ -389,6 +357,36 @@ class _Separator:
         self.moved = max([abs(residual)] + [abs(k_new[c] / k - 1.0) for c, k in self.k.items()])
         self.k = k_new
         return solved
+
+    def _secant(self, solve: LinearSolve, conversion, work, tolerance: float):
+        """Secant steps in ln(V/L), held in each solve, inside a bracket of the root; where
+        the LP can hold V/L and the root is a jump, :meth:`_hold`.  (solve, residual)."""
+        history: list = []
+        low, high = VAPOUR_PER_LIQUID_LOG_RANGE  # the bracket of the root in ln(V/L)
+        sides: dict[bool, list] = {True: [], False: []}  # (ln V/L, |residual|) either side
+        for _ in range(self.max_steps):
+            solved = self._call(solve, conversion, work)
+            if solved is None or _negative(solved[0]):
+                return solved, None
+            u = math.log(self.ratio)
+            residual = _log_ratio(solved[0]) - u
+            if abs(residual) < tolerance:
+                return solved, residual
+            sides[residual > 0.0].append((u, abs(residual)))
+            low, high = (u, high) if residual > 0.0 else (low, u)
+            if self.can_hold and _jump(sides[True], sides[False]):
+                self.tie_slope = None
+                return self._hold(solve, conversion, work, tolerance, low, high)
+            if high - low < 1e-12 * max(1.0, abs(u)):
+                return solved, residual
+            u = secant_step(history, u, residual, self.slope, bounds=(low, high))
+            if not low < u < high:  # the secant left the bracket: bisect it
+                u = 0.5 * (low + high)
+            slope = _slope(history)
+            self.slope = slope if slope is not None and slope < 0.0 else self.slope
+            self.ratio = math.exp(u)
+        raise _SeparatorDiverged("the separator's vapour-to-liquid ratio did not converge "
+                                 f"in {self.max_steps} steps")
 
     def _hold(self, solve: LinearSolve, conversion, work, tolerance: float,
               low: float, high: float, start: float | None = None):
