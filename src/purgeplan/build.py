@@ -21,6 +21,7 @@ from .case_checks import (
     latent_heats_kj_kmol,
     letdown_release,
     peng_robinson_data,
+    separator_activity_data,
     separator_k_values,
     separator_peng_robinson_data,
 )
@@ -317,4 +318,5 @@ def build_loop(case: Case, name: str = "") -> Loop:
         cooling=_cooling(case, data, condensing),
         separator_model=case.separator.split_model,
         separator_k_values=separator_k_values(case, data),
-        separator_peng_robinson=separator_peng_robinson_data(case, data))
+        separator_peng_robinson=separator_peng_robinson_data(case, data),
+        separator_activity=separator_activity_data(case, data))

@@ -22,7 +22,7 @@ from .errors import CaseError
 from .physics import equilibrium, kinetics, separation, thermo
 from .physics.real_gas import PengRobinsonData
 from .physics.thermo import KELVIN
-from .properties import ComponentData, lookup, peng_robinson_parameters
+from .properties import ComponentData, lookup, peng_robinson_parameters, unifac_groups
 
 if TYPE_CHECKING:
     from .case import Case, ComponentSpec, ReactionSpec
@@ -387,8 +387,15 @@ def _builtin_henry_bar(case: Case, data: Mapping[str, ComponentData], c: str,
                                          temperature_k)
 
 
-def _raoult_k(d: ComponentData, temperature_k: float, pressure_bar: float) -> float | None:
-    """K of a component that condenses (below its critical temperature), else None."""
+def raoult_k(d: ComponentData, temperature_k: float, pressure_bar: float) -> float | None:
+    """K of a component that condenses (below its critical temperature) in an ideal liquid
+    solution, else None [-].
+
+    Raoult's law with the Poynting factor of the Rackett liquid volume
+    (:func:`purgeplan.physics.separation.raoult_k_value` with gamma = 1); the
+    separator's activity coefficients multiply it
+    (:func:`purgeplan.coefficients.separator_activity_coefficients`).
+    """
     coefficients = d.vapour_pressure_coefficients
     if coefficients is None or temperature_k >= coefficients[1]:
         return None
@@ -424,7 +431,7 @@ def separator_k_values(case: Case, data: Mapping[str, ComponentData]) -> dict[st
             out[c] = separation.henry_k_value(henry, p)
             continue
         try:
-            k = _raoult_k(data[c], t, p)
+            k = raoult_k(data[c], t, p)
         except (ArithmeticError, ValueError) as exc:
             raise CaseError("separator.temperature_c", str(exc)) from None
         if k is None:
@@ -438,6 +445,32 @@ def separator_k_values(case: Case, data: Mapping[str, ComponentData]) -> dict[st
                         f"the product {product!r} does not condense at {sep.temperature_c:g} "
                         f"degC and {p:g} bar (K = {out[product]:.3g}): cool the separator")
     return out
+
+
+def separator_activity_data(case: Case, data: Mapping[str, ComponentData]) -> tuple | None:
+    """The condensing components of a Henry-Raoult separator and their UNIFAC groups.
+
+    ``(names, groups)``, names in the loop's (sorted) order, when more than one
+    component condenses (those without a Henry constant) and the property
+    library has original-UNIFAC groups for each
+    (:func:`purgeplan.properties.unifac_groups`); their activity coefficients
+    then enter Raoult's law.  None otherwise: for another model, for one
+    condensing component (its liquid is nearly pure, gamma = 1, as ammonia with
+    its dissolved gases), or when a condensing component has no groups (the
+    liquid is then taken as an ideal solution).
+    """
+    sep = case.separator
+    if sep.split_model != "henry_raoult":
+        return None
+    t, _ = _separator_conditions(case)
+    names = tuple(c for c in sorted(case.components)
+                  if not (sep.henry_constant_bar.get(c) or _builtin_henry_bar(case, data, c, t)))
+    if len(names) < 2:
+        return None
+    groups = tuple(unifac_groups(data[c].cas) for c in names)
+    if any(g is None for g in groups):
+        return None
+    return names, groups
 
 
 def separator_peng_robinson_data(case: Case, data: Mapping[str, ComponentData]

@@ -282,20 +282,56 @@ def separator_k_values(loop: Loop, liquid_kmol_h: Mapping[str, float] | None = N
     """K = y/x of each component in a phase-equilibrium separator [-].
 
     Henry and Raoult's laws give K-values fixed for the loop (evaluated when it
-    is built).  Peng-Robinson K-values depend on the compositions of the
-    liquid and vapour: they are evaluated at the flows given, and without
-    flows at the start of the inner fixed point, each gas at infinite dilution
-    in the liquid product under a vapour of the first make-up gas.
+    is built), but that where several components condense, Raoult's law takes
+    their activity coefficients at the liquid's composition
+    (:func:`separator_activity_coefficients`).  Peng-Robinson K-values depend
+    on the compositions of the liquid and vapour.  Both are evaluated at the
+    flows given, and without flows at the start of the inner fixed point, the
+    liquid pure product (each other component at infinite dilution in it)
+    under a vapour of the first make-up gas.
     """
-    if loop.separator_k_values is not None:
-        return dict(loop.separator_k_values)
-    t, p = loop.separator_temperature_k, loop.pressure_bar - loop.pressure_drop_bar
     if liquid_kmol_h is None:
         liquid_kmol_h = {c: float(c == loop.product) for c in loop.components}
         vapour_kmol_h = loop.makeup_sources[0].composition
+    if loop.separator_k_values is not None:
+        k = dict(loop.separator_k_values)
+        gamma = separator_activity_coefficients(loop, liquid_kmol_h)
+        for c, g in gamma.items():  # y P = x gamma Psat F_P (separation.raoult_k_value)
+            k[c] *= g
+        return k
+    t, p = loop.separator_temperature_k, loop.pressure_bar - loop.pressure_drop_bar
     x, y = (_fractions(liquid_kmol_h, loop.components), _fractions(vapour_kmol_h, loop.components))
     k = separation.peng_robinson_k_values(loop.separator_peng_robinson, t, p, x, y)
     return dict(zip(loop.components, k, strict=True))
+
+
+def separator_k_values_vary(loop: Loop) -> bool:
+    """Whether a phase-equilibrium separator's K-values depend on the state's flows."""
+    return loop.separator_k_values is None or loop.separator_activity is not None
+
+
+def separator_activity_coefficients(loop: Loop, liquid_kmol_h: Mapping[str, float],
+                                    temperature_k: float | None = None) -> dict[str, float]:
+    """Activity coefficients of a Henry-Raoult separator's condensing components [-].
+
+    By the original UNIFAC
+    (:func:`purgeplan.physics.separation.unifac_activity_coefficients`) at the
+    separator temperature (or ``temperature_k`` [K]) and the liquid's
+    composition on a dissolved-gas-free basis: the gases dissolve to well under
+    1 % and are left out of the solution's non-ideality.  Empty where the loop
+    has no activity data (one condensing component, or one without UNIFAC
+    groups: gamma = 1).
+    """
+    if loop.separator_activity is None:
+        return {}
+    names, groups = loop.separator_activity
+    x = [max(liquid_kmol_h.get(c, 0.0), 0.0) for c in names]
+    total = sum(x)
+    if total <= 0.0:
+        return {}
+    t = loop.separator_temperature_k if temperature_k is None else temperature_k
+    gamma = separation.unifac_activity_coefficients(groups, t, [v / total for v in x])
+    return dict(zip(names, gamma, strict=True))
 
 
 def separator_liquid_shares(loop: Loop, liquid_kmol_h: Mapping[str, float],

@@ -351,9 +351,9 @@ class _Separator:
             return solved
         self._settle(x)
         flows = solved[0]
-        k_new = (self.k if self.loop.separator_k_values is not None
-                 else coefficients.separator_k_values(self.loop, flows["liquid_product"],
-                                                      flows["separator_vapour"]))
+        k_new = (coefficients.separator_k_values(self.loop, flows["liquid_product"],
+                                                 flows["separator_vapour"])
+                 if coefficients.separator_k_values_vary(self.loop) else self.k)
         self.moved = max([abs(residual)] + [abs(k_new[c] / k - 1.0) for c, k in self.k.items()])
         self.k = k_new
         return solved

@@ -228,11 +228,15 @@ class Loop:
     peng_robinson: PengRobinsonData | None = None   # None: the compressors' gas is ideal
     cooling: Cooling | None = None
     #: "split_fractions" (``liquid_fraction`` and ``condensing``), "henry_raoult"
-    #: (fixed K-values ``separator_k_values``) or "peng_robinson" (K-values at the
-    #: state from ``separator_peng_robinson``: Tc, Pc, omega, kij in component order).
+    #: (K-values ``separator_k_values``, fixed but for ``separator_activity``) or
+    #: "peng_robinson" (K-values at the state from ``separator_peng_robinson``: Tc, Pc,
+    #: omega, kij in component order).
     separator_model: str = "split_fractions"
     separator_k_values: dict[str, float] | None = None
     separator_peng_robinson: tuple | None = None
+    #: A Henry-Raoult separator's condensing components and their UNIFAC groups, whose
+    #: activity coefficients at the state multiply their K-values; None: gamma = 1.
+    separator_activity: tuple | None = None
 
     @property
     def ratio_limits(self) -> tuple[InletRatio, ...]:

@@ -355,3 +355,30 @@ class _EosCache(_DiskCache):
     def reset(cls) -> None:
         cls._instance = None
         peng_robinson_parameters.cache_clear()
+
+
+# ---------------------------------------------------------------------------
+# UNIFAC groups from the ``thermo`` library
+
+
+@lru_cache(maxsize=256)
+def unifac_groups(cas: str) -> tuple[tuple[int, int], ...] | None:
+    """The original-UNIFAC subgroups of a component, as (subgroup, count) pairs.
+
+    The group assignment of the Dortmund Data Bank that ``thermo`` carries
+    (``thermo.unifac.DDBST_UNIFAC_assignments``, keyed by InChIKey, the key
+    from ``chemicals``); None for a component it has none for (as ammonia,
+    hydrogen and the other light gases, which original UNIFAC does not cover).
+    """
+    if not cas:
+        return None
+    import thermo.unifac
+    from chemicals.identifiers import search_chemical
+
+    try:
+        key = search_chemical(cas).InChI_key
+    except Exception:  # chemicals raises plain Exception for unknown names
+        return None
+    thermo.unifac.load_group_assignments_DDBST()
+    groups = thermo.unifac.DDBST_UNIFAC_assignments.get(key)
+    return None if not groups else tuple(sorted((int(g), int(n)) for g, n in groups.items()))

@@ -141,18 +141,42 @@ def poynting_factor(liquid_volume_m3_mol: float, pressure_bar: float,
 
 
 def raoult_k_value(vapour_pressure_bar: float, pressure_bar: float,
-                   poynting: float = 1.0) -> float:
-    """K = y/x of a condensing component in an ideal liquid solution [-].
+                   poynting: float = 1.0, activity_coefficient: float = 1.0) -> float:
+    """K = y/x of a condensing component [-].
 
-    Raoult's law with the Poynting correction, y P = x Psat F_P (Smith, Van Ness
-    and Abbott, 7th ed., section 10.4 and eq. 11.44; from memory).
+    The modified Raoult's law with the Poynting correction,
+    y P = x gamma Psat F_P (Smith, Van Ness and Abbott, 7th ed., eq. 10.5 and
+    eq. 11.44; from memory); gamma = 1 in an ideal liquid solution.  With the
+    vapour pressure, Poynting factor and pressure fixed, K is the ideal
+    solution's K times gamma.
     """
-    return vapour_pressure_bar * poynting / pressure_bar
+    return activity_coefficient * vapour_pressure_bar * poynting / pressure_bar
 
 
 def henry_k_value(henry_bar: float, pressure_bar: float) -> float:
     """K = y/x of a dissolved gas by Henry's law, y P = x H [-]."""
     return henry_bar / pressure_bar
+
+
+def unifac_activity_coefficients(groups: tuple, temperature_k: float,
+                                 liquid_x: list[float]) -> list[float]:
+    """Activity coefficients of the components of a liquid by the original UNIFAC [-].
+
+    ``groups`` is, in component order, each component's UNIFAC subgroups as
+    (subgroup number, count) pairs; ``liquid_x`` the mole fractions [-], in the
+    same order.  ln gamma = ln gamma^C + ln gamma^R, the combinatorial and
+    residual parts of Fredenslund, Jones and Prausnitz (*AIChE J.* 21, 1975,
+    1086, eqs. 7-14), with the group volumes, areas and interaction
+    parameters of Hansen et al. (*Ind. Eng. Chem. Res.* 30, 1991, 2352;
+    citation from memory) as carried by the ``thermo`` library
+    (``thermo.unifac.UNIFAC`` with ``UFSG`` and ``UFIP``).
+    """
+    from thermo.unifac import UFIP, UFSG, UNIFAC
+
+    model = UNIFAC.from_subgroups(T=temperature_k, xs=list(liquid_x),
+                                  chemgroups=[dict(g) for g in groups], version=0,
+                                  interaction_data=UFIP, subgroups=UFSG)
+    return [float(g) for g in model.gammas()]
 
 
 def liquid_share(k_value: float, vapour_per_liquid: float) -> float:
