@@ -27,7 +27,8 @@ from purgeplan.physics import separation
 ATM_BAR = 1.01325
 
 #: Methanol-water at 1 atm, (x methanol, y methanol, T degC): Perry's Chemical Engineers'
-#: Handbook (seen as reproduced in public repositories; docs/references.md section 18).
+#: Handbook (seen as reproduced in public repositories, but T at x = 0.02-0.08 and 0.95
+#: and the row x = 0.15 from memory; docs/references.md section 18).
 PERRY_1_ATM = [
     (0.02, 0.134, 96.4), (0.04, 0.230, 93.5), (0.06, 0.304, 91.2), (0.08, 0.365, 89.3),
     (0.10, 0.418, 87.7), (0.15, 0.517, 84.4), (0.20, 0.579, 81.7), (0.30, 0.665, 78.0),

@@ -296,7 +296,7 @@ def separator_k_values(loop: Loop, liquid_kmol_h: Mapping[str, float] | None = N
     if loop.separator_k_values is not None:
         k = dict(loop.separator_k_values)
         gamma = separator_activity_coefficients(loop, liquid_kmol_h)
-        for c, g in gamma.items():  # y P = x gamma Psat F_P (separation.raoult_k_value)
+        for c, g in gamma.items():  # the modified Raoult's law, y P = x gamma Psat F_P
             k[c] *= g
         return k
     t, p = loop.separator_temperature_k, loop.pressure_bar - loop.pressure_drop_bar
@@ -317,8 +317,9 @@ def separator_activity_coefficients(loop: Loop, liquid_kmol_h: Mapping[str, floa
     By the original UNIFAC
     (:func:`purgeplan.physics.separation.unifac_activity_coefficients`) at the
     separator temperature (or ``temperature_k`` [K]) and the liquid's
-    composition on a dissolved-gas-free basis: the gases dissolve to well under
-    1 % and are left out of the solution's non-ideality.  Empty where the loop
+    composition on a dissolved-gas-free basis: the dissolved gases are dilute
+    (about 1 % of the liquid in a methanol loop) and are left out of the
+    solution's non-ideality.  Empty where the loop
     has no activity data (one condensing component, or one without UNIFAC
     groups: gamma = 1).
     """

@@ -141,16 +141,16 @@ def poynting_factor(liquid_volume_m3_mol: float, pressure_bar: float,
 
 
 def raoult_k_value(vapour_pressure_bar: float, pressure_bar: float,
-                   poynting: float = 1.0, activity_coefficient: float = 1.0) -> float:
-    """K = y/x of a condensing component [-].
+                   poynting: float = 1.0) -> float:
+    """K = y/x of a condensing component in an ideal liquid solution [-].
 
-    The modified Raoult's law with the Poynting correction,
-    y P = x gamma Psat F_P (Smith, Van Ness and Abbott, 7th ed., eq. 10.5 and
-    eq. 11.44; from memory); gamma = 1 in an ideal liquid solution.  With the
-    vapour pressure, Poynting factor and pressure fixed, K is the ideal
-    solution's K times gamma.
+    Raoult's law with the Poynting correction, y P = x Psat F_P (Smith, Van Ness
+    and Abbott, 7th ed., section 10.4 and eq. 11.44; from memory).  In a
+    non-ideal solution the modified Raoult's law, y P = x gamma Psat F_P
+    (section 10.5; from memory), multiplies this K by the activity
+    coefficient gamma (:func:`purgeplan.coefficients.separator_k_values`).
     """
-    return activity_coefficient * vapour_pressure_bar * poynting / pressure_bar
+    return vapour_pressure_bar * poynting / pressure_bar
 
 
 def henry_k_value(henry_bar: float, pressure_bar: float) -> float:
@@ -166,9 +166,9 @@ def unifac_activity_coefficients(groups: tuple, temperature_k: float,
     (subgroup number, count) pairs; ``liquid_x`` the mole fractions [-], in the
     same order.  ln gamma = ln gamma^C + ln gamma^R, the combinatorial and
     residual parts of Fredenslund, Jones and Prausnitz (*AIChE J.* 21, 1975,
-    1086, eqs. 7-14), with the group volumes, areas and interaction
-    parameters of Hansen et al. (*Ind. Eng. Chem. Res.* 30, 1991, 2352;
-    citation from memory) as carried by the ``thermo`` library
+    1086), with the group volumes, areas and interaction parameters of
+    Hansen et al. (*Ind. Eng. Chem. Res.* 30, 1991, 2352; both citations from
+    memory) as carried by the ``thermo`` library
     (``thermo.unifac.UNIFAC`` with ``UFSG`` and ``UFIP``).
     """
     from thermo.unifac import UFIP, UFSG, UNIFAC
