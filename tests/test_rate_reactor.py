@@ -4,7 +4,9 @@ Checks against outside sources: the rate's zero against the published equilibriu
 of Larson and Dodge (docs/references.md, sections 1.3 and 11), the bed integral
 against SciPy's ODE solver, the effectiveness-factor fit against its value as an
 independent reproduction of the paper's Table I evaluates it, and the optimum
-against a dense two-dimensional scan of the direct engine and against SCIP.
+against a dense two-dimensional scan of the direct engine.  (SCIP checks the
+loops of fixed conversion, tests/test_optimise.py: with the rate integral in
+the model, as Gauss-Legendre quadrature, its bound closes too slowly for a test.)
 """
 
 from __future__ import annotations
