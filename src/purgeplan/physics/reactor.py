@@ -512,6 +512,9 @@ class AdiabaticBeds:
 #: Catalyst of a trial quench arrangement that misses the overall conversion: larger than
 #: any real one [m3 h/kmol], growing with the miss so that the search is led back.
 _MISSED = 1e6
+#: Largest advance of a bed towards its adiabatic equilibrium searched, u = -ln(1 - f) [-]:
+#: within 4e-18 of it.
+_U_MAX = 40.0
 
 
 @dataclass(frozen=True)
@@ -604,22 +607,24 @@ class QuenchBeds:
         return self.gas.equilibrium_conversion(0.0, self.inlet_temperatures_k[0])
 
     def _chain(self, advances) -> list[tuple] | None:
-        """The beds before the last for the advances f_n in [0, 1] of beds 1 to N - 1: per
-        bed (local inlet, adiabatic equilibrium and outlet conversion, outlet temperature,
+        """The beds before the last for the advances u_n >= 0 of beds 1 to N - 1: per bed
+        (local inlet, adiabatic equilibrium and outlet conversion, outlet temperature,
         quench per gas), and the last bed's local inlet and equilibrium conversion; None
         where a bed cannot heat to the next inlet temperature.
 
-        Bed n leaves at x_lo + f_n (x_e - x_lo), x_lo the bed's inlet, or where its
-        adiabat reaches the next inlet temperature when that is hotter.
+        Bed n leaves at x = x_lo + (1 - exp(-u_n)) (x_e - x_lo), x_lo the bed's inlet,
+        or where its adiabat reaches the next inlet temperature when that is hotter:
+        u = -ln(1 - (x - x_lo)/(x_e - x_lo)) resolves the approach to the bed's
+        equilibrium (u = inf) as the bed integral does.
         """
         g, temps = self.gas, self.inlet_temperatures_k
         x_in, x_e, out = 0.0, self._first_equilibrium, []
-        for n, f in enumerate(advances):
+        for n, u in enumerate(advances):
             t_n, t_next = temps[n], temps[n + 1]
             x_lo = x_in if t_next <= t_n else g.conversion_on_adiabat(x_in, t_n, t_next)
             if not x_lo < x_e:
                 return None
-            x = x_lo + min(max(float(f), 0.0), 1.0) * (x_e - x_lo)
+            x = x_lo + -math.expm1(-max(float(u), 0.0)) * (x_e - x_lo)
             t_out = float(g.temperature_k(x_in, t_n, x)[0]) if x > x_in else t_n
             q = max(self.quench_per_gas(x, t_out, t_next), 0.0)
             out.append((x_in, x_e, x, t_out, q))
@@ -655,12 +660,19 @@ class QuenchBeds:
         meets the equilibrium curve of an exothermic reaction later); 0 where a
         bed cannot heat to the next inlet temperature.
         """
-        chain = self._chain([1.0] * (len(self.inlet_temperatures_k) - 1))
+        chain = self._chain([math.inf] * (len(self.inlet_temperatures_k) - 1))
         return 0.0 if chain is None else float(chain[-1][1])
 
+    def least_conversion(self) -> float:
+        """The least per-pass conversion the beds can run at, every bed before the last as
+        short as it can be (not used, or just heating to the next inlet temperature): the
+        conversion at the last quench point [-]; below it the catalyst is infinite."""
+        chain = self._chain([0.0] * (len(self.inlet_temperatures_k) - 1))
+        return math.inf if chain is None else float(chain[-1][0])
+
     def advances(self, conversion: float) -> tuple[float, ...] | None:
-        """The advances f_n of beds 1 to N - 1 of least catalyst at an overall conversion, None
-        where no arrangement reaches it.
+        """The advances u_n of beds 1 to N - 1 (:meth:`_chain`) of least catalyst at an
+        overall conversion, None where no arrangement reaches it.
 
         A coarse search of even advances first, then SciPy's bounded Brent method
         (two beds) or Nelder-Mead (more) from the best of them; the least W,
@@ -669,26 +681,21 @@ class QuenchBeds:
         from scipy.optimize import minimize, minimize_scalar  # as in AdiabaticBeds
 
         n = len(self.inlet_temperatures_k) - 1
-        starts = [(f,) * n for f in (0.0, 0.3, 0.6, 0.8, 0.9, 0.97)]
-        values = [self._total(s, conversion) for s in starts]
+        grid = (0.0, 0.35, 0.9, 1.6, 2.3, 3.5, 5.0, 7.0, 10.0, 14.0, 19.0, 25.0)
+        values = [self._total((u,) * n, conversion) for u in grid]
         j = int(np.argmin(values))
         if values[j] >= _MISSED:
             return None
         if n == 1:
-            lo = starts[j - 1][0] if j > 0 else 0.0
-            hi = starts[j + 1][0] if j + 1 < len(starts) else 1.0
-            res = minimize_scalar(lambda f: self._total((f,), conversion), bounds=(lo, hi),
+            lo, hi = grid[max(j - 1, 0)], grid[j + 1] if j + 1 < len(grid) else _U_MAX
+            res = minimize_scalar(lambda u: self._total((u,), conversion), bounds=(lo, hi),
                                   method="bounded", options={"xatol": 1e-10, "maxiter": 200})
-            best = (float(res.x),)
         else:
-            res = minimize(lambda f: self._total(f, conversion), np.array(starts[j]),
-                           method="Nelder-Mead", bounds=[(0.0, 1.0)] * n,
+            res = minimize(lambda u: self._total(u, conversion), np.full(n, grid[j]),
+                           method="Nelder-Mead", bounds=[(0.0, _U_MAX)] * n,
                            options={"xatol": 1e-9, "fatol": 1e-16, "maxiter": 400 * n})
-            best = tuple(float(v) for v in res.x)
-        for candidate in (best, starts[j]):
-            if self._total(candidate, conversion) < _MISSED:
-                return candidate if self._total(candidate, conversion) <= values[j] else starts[j]
-        return None
+        best = tuple(float(v) for v in np.atleast_1d(res.x))
+        return best if self._total(best, conversion) <= values[j] else (grid[j],) * n
 
     @functools.cached_property
     def _splits(self) -> dict:
@@ -714,7 +721,7 @@ class QuenchBeds:
         f = self.advances(conversion)
         reached = f is not None
         if not reached:
-            f = (1.0 if conversion >= self.attainable_conversion() else 0.0,) * (
+            f = (math.inf if conversion >= self.attainable_conversion() else 0.0,) * (
                 len(self.inlet_temperatures_k) - 1)
         chain = self._chain(f)
         temps = self.inlet_temperatures_k
