@@ -121,7 +121,7 @@ def test_the_converter_closes_an_energy_balance_of_coolprop_enthalpies(approach)
     temperature and the rest at the quench temperature, in; the gas at the overall
     conversion, out.  The outlet temperature at which CoolProp's enthalpies (with the
     NIST enthalpy of formation) balance is the last bed's within 0.5 K.  Measured: 0.23
-    and 0.30 K above (rises of 270 to 320 K above the quench gas; the bed's heat
+    and 0.30 K above (outlets 314 and 328 K above the quench gas; the bed's heat
     capacities are Poling's)."""
     loop = _loop(**NIST)
     q = _converter(loop)

@@ -169,7 +169,7 @@ class AdiabaticBeds:
 
     The converter's feed (mole fractions ``inlet_fractions``) passes bed 1,
     is cooled by an exchanger to the inlet temperature of bed 2, and so on;
-    no gas is added between beds (indirect cooling, not quench), so the
+    no gas is added between beds (indirect cooling; quench is :class:`QuenchBeds`), so the
     conversion X of the key reactant is counted from the converter feed
     throughout.  Per kmol of converter feed the moles at conversion X are
     n(X) = y0 + nu xi, xi = X y0_k / |nu_k|.
