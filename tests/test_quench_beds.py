@@ -275,6 +275,21 @@ def test_split_against_a_dense_scan_of_the_bed_boundaries(inlets, approach):
     assert w <= best * (1 + 1e-9)
 
 
+@pytest.mark.parametrize("inlets", [(420.0, 400.0, 390.0), (400.0, 420.0, 430.0),
+                                    (380.0, 440.0)])
+def test_least_catalyst_grows_with_conversion_over_the_whole_range(inlets):
+    """On 58 conversions between the least the beds can run at and what they reach, the
+    least catalyst is finite and grows with the conversion (a cheaper arrangement for a
+    higher conversion would, run shorter in its last bed, be cheaper for the lower one
+    too, wherever its last quench point lies below it); a search that stopped at a local
+    minimum of the boundaries shows as a fall."""
+    q = _converter(_loop(beds=list(inlets)))
+    xs = np.linspace(q.least_conversion(), q.attainable_conversion(), 60)[1:-1]
+    volumes = [q.volume_per_feed_m3_h_kmol(x) for x in xs]
+    assert all(math.isfinite(v) for v in volumes)
+    assert np.all(np.diff(volumes) > 0.0)
+
+
 # ---------------------------------------------------------------------------
 # (4) quench against intercooling at the same inlet temperatures
 

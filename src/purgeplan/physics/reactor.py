@@ -674,15 +674,22 @@ class QuenchBeds:
         """The advances u_n of beds 1 to N - 1 (:meth:`_chain`) of least catalyst at an
         overall conversion, None where no arrangement reaches it.
 
-        A coarse search of even advances first, then SciPy's bounded Brent method
-        (two beds) or Nelder-Mead (more) from the best of them; the least W,
-        stationary in every boundary, is what :meth:`split` reports.
+        A coarse search first (every bed advanced alike, and with more than two
+        beds one bed at a time with the others not used), then SciPy's bounded
+        Brent method (two beds) or Nelder-Mead (more) from the best of them; the
+        least W, stationary in every boundary, is what :meth:`split` reports.
         """
         from scipy.optimize import minimize, minimize_scalar  # as in AdiabaticBeds
 
         n = len(self.inlet_temperatures_k) - 1
         grid = (0.0, 0.35, 0.9, 1.6, 2.3, 3.5, 5.0, 7.0, 10.0, 14.0, 19.0, 25.0)
-        values = [self._total((u,) * n, conversion) for u in grid]
+        # every bed advanced alike, and (more than two beds) one bed at a time, the others
+        # not used: the least catalyst may leave beds unused
+        starts = [(u,) * n for u in grid]
+        if n > 1:
+            starts += [tuple(u if m == k else 0.0 for m in range(n))
+                       for k in range(n) for u in grid[1:]]
+        values = [self._total(s, conversion) for s in starts]
         j = int(np.argmin(values))
         if values[j] >= _MISSED:
             return None
@@ -691,11 +698,11 @@ class QuenchBeds:
             res = minimize_scalar(lambda u: self._total((u,), conversion), bounds=(lo, hi),
                                   method="bounded", options={"xatol": 1e-10, "maxiter": 200})
         else:
-            res = minimize(lambda u: self._total(u, conversion), np.full(n, grid[j]),
+            res = minimize(lambda u: self._total(u, conversion), np.array(starts[j]),
                            method="Nelder-Mead", bounds=[(0.0, _U_MAX)] * n,
                            options={"xatol": 1e-9, "fatol": 1e-16, "maxiter": 400 * n})
         best = tuple(float(v) for v in np.atleast_1d(res.x))
-        return best if self._total(best, conversion) <= values[j] else (grid[j],) * n
+        return best if self._total(best, conversion) <= values[j] else starts[j]
 
     @functools.cached_property
     def _splits(self) -> dict:
