@@ -62,6 +62,10 @@ def _template_example(name: str) -> str:
 #: whose constants the case gives (the power law's are a subset).
 SEEDS["rate_forms"] = SEEDS["template"]
 SEED_TEXT["rate_forms"] = _template_example("rate_langmuir_hinshelwood")
+#: The template's quench converter as a seed of its own, so that the mutations reach the
+#: keys of quench between adiabatic beds.
+SEEDS["quench"] = SEEDS["template"]
+SEED_TEXT["quench"] = _template_example("quench_converter")
 SEED_DOCS = {name: tomllib.loads(text) for name, text in SEED_TEXT.items()}
 
 CHECK_OK = frozenset({0, 2, 3, 4})
@@ -941,6 +945,86 @@ def test_adiabatic_bed_edges_are_handled(tmp_path, beds, expected):
     assert status == expected, err
     if expected == 2:
         assert "reactions[0].rate.bed_inlet_temperatures_c" in err, err
+
+
+@pytest.mark.parametrize("keys, expected, field", [
+    # quench between adiabatic beds under the demo's rate table, at and past the edges
+    ('[400, 390, 380], between_beds = "quench", quench_temperature_c = 150', 0, ""),
+    ('[400, 400], between_beds = "quench", quench_temperature_c = 0', 0, ""),
+    ('[400, 400], between_beds = "quench", quench_temperature_c = 399.99', 0, ""),
+    ('[400, 400], between_beds = "cooling"', 0, ""),
+    ('[400, 400], between_beds = "quench", quench_temperature_c = 400', 2,
+     "quench_temperature_c"),
+    ('[400, 380], between_beds = "quench", quench_temperature_c = 390', 2,
+     "quench_temperature_c"),
+    ('[400, 400], between_beds = "quench", quench_temperature_c = -0.01', 2,
+     "quench_temperature_c"),
+    ('[400, 400], between_beds = "quench", quench_temperature_c = nan', 2,
+     "quench_temperature_c"),
+    ('[400, 400], between_beds = "quench", quench_temperature_c = inf', 2,
+     "quench_temperature_c"),
+    ('[400, 400], between_beds = "quench", quench_temperature_c = "150"', 2,
+     "quench_temperature_c"),
+    ('[400, 400], between_beds = "quench"', 2, "quench_temperature_c"),
+    ('[400, 400], quench_temperature_c = 150', 2, "quench_temperature_c"),
+    ('[400], between_beds = "quench", quench_temperature_c = 150', 2, "between_beds"),
+    ('[400, 400], between_beds = "Quench", quench_temperature_c = 150', 2, "between_beds"),
+    ('[400, 400], between_beds = true, quench_temperature_c = 150', 2, "between_beds"),
+])
+def test_quench_edges_are_handled(tmp_path, keys, expected, field):
+    """The demo's converter as quenched adiabatic beds at extreme settings: accepted with
+    a steady state, or refused in one line naming the key."""
+    text = SEED_TEXT["ammonia"].replace(
+        DEMO_RATE, DEMO_RATE[:-2] + f", bed_inlet_temperatures_c = {keys} }}")
+    status, _, err = check_case_file(GeneratedCase("ammonia", text.encode(), [keys]), tmp_path)
+    assert status == expected, err
+    if expected == 2:
+        assert f"reactions[0].rate.{field}" in err, err
+
+
+_QUENCH_VALUES = (st.floats(allow_nan=True, allow_infinity=True).map(repr)
+                  .map(lambda t: {"nan": "nan", "inf": "inf", "-inf": "-inf"}.get(t, t))
+                  | st.integers(-10**4, 10**4).map(str)
+                  | st.integers(0, 650).map(str) | st.floats(0.0, 650.0).map(repr)
+                  | st.sampled_from(['"150"', "true", "[150]", "{}", "1e308", "-273.15"]))
+
+
+@settings(max_examples=25, deadline=None, suppress_health_check=[HealthCheck.too_slow])
+@given(beds=st.lists(st.integers(200, 600), min_size=0, max_size=3),
+       between=st.sampled_from(['"quench"', '"cooling"', '"cold_shot"', "1", None]),
+       quench=st.one_of(st.none(), _QUENCH_VALUES))
+def test_generated_quench_settings_are_accepted_or_refused_in_one_line(tmp_path_factory,
+                                                                       beds, between, quench):
+    """Any bed list, between_beds and quench temperature on the demo's converter: a check
+    that runs (exit 0, or 3 where no steady state is found at the case's conversion) or
+    a one-line refusal naming a key of the rate table (exit 2), never a traceback."""
+    keys = f"bed_inlet_temperatures_c = {beds}" if beds else ""
+    for name, value in (("between_beds", between), ("quench_temperature_c", quench)):
+        if value is not None:
+            keys += (", " if keys else "") + f"{name} = {value}"
+    text = SEED_TEXT["ammonia"].replace(DEMO_RATE, DEMO_RATE[:-2] + (
+        f", {keys} }}" if keys else " }"))
+    status, _, err = check_case_file(GeneratedCase("ammonia", text.encode(), [keys]),
+                                     tmp_path_factory.mktemp("quench"))
+    if status == 2:
+        assert "reactions[0].rate" in err and err.strip().count("\n") == 0, err
+    quench_valid = (between == '"quench"' and len(beds) >= 2 and quench is not None
+                    and _finite_number(quench) and 0.0 <= float(quench) < min(beds))
+    if quench_valid:
+        assert status in (0, 3), err
+    if quench is not None and between != '"quench"':
+        assert status == 2, err
+    event(f"quench check exit {status}")
+
+
+def _finite_number(text: str) -> bool:
+    try:
+        tomllib.loads(f"v = {text}")
+    except tomllib.TOMLDecodeError:
+        return False
+    value = tomllib.loads(f"v = {text}")["v"]
+    return (isinstance(value, int | float) and not isinstance(value, bool)
+            and math.isfinite(value))
 
 
 @pytest.mark.parametrize("drop, expected", [("1e-15", 2), ("1e-300", 2), ("0.001", 0)])

@@ -59,6 +59,10 @@ VesselDiameterM = _num(ge=0.1, le=20)
 BedInletTemperatureC = _num(ge=200, le=600)
 #: Most adiabatic beds in series a converter may have (common practice: two to four).
 MAX_BEDS = 6
+#: Temperature of the cold feed gas injected between quenched beds [degC]: below every
+#: bed's inlet temperature (checked with them); 0 degC keeps the ideal-gas Cp polynomials
+#: well inside the temperatures they were fitted over.
+QuenchTemperatureC = _num(ge=0, le=600)
 Name = Annotated[str, Field(min_length=1, max_length=200)]
 
 MAX_CASE_BYTES = 2_000_000
@@ -124,7 +128,7 @@ RATE_CONSTANT_KEYS = ("pre_exponential_kmol_m3_h", "activation_energy_kj_mol", "
 
 class RateSpec(_Strict):
     """A catalyst bed sized from a rate expression (per_pass = "rate"), isothermal or
-    adiabatic beds in series with cooling between them."""
+    adiabatic beds in series with cooling or quench between them."""
 
     law: Literal["temkin_pyzhev", "power_law", "langmuir_hinshelwood"] = "temkin_pyzhev"
     effectiveness_factor: UpToOne | Literal["dyson_simon"] = 1.0
@@ -140,6 +144,11 @@ class RateSpec(_Strict):
     #: None: one isothermal bed at the reactor temperature.
     bed_inlet_temperatures_c: list[BedInletTemperatureC] | None = Field(
         default=None, min_length=1, max_length=MAX_BEDS)
+    #: How the gas reaches each later bed's inlet temperature: an inter-bed cooler
+    #: ("cooling") or cold feed gas injected between beds ("quench").
+    between_beds: Literal["cooling", "quench"] = "cooling"
+    #: Temperature of the quench gas (between_beds = "quench" only).
+    quench_temperature_c: QuenchTemperatureC | None = None
 
 
 class ReactionSpec(_Strict):
@@ -588,6 +597,30 @@ def _check_rate(base: str, r: ReactionSpec, need: _Need) -> None:
         _check_rate_constants(base, r, need)
     if not r.rate.conversion_min < r.rate.conversion_max:
         raise CaseError(f"{base}.rate.conversion_max", "need conversion_min < conversion_max")
+    _check_quench(f"{base}.rate", r.rate)
+
+
+def _check_quench(path: str, rate: RateSpec) -> None:
+    """A quench converter: two or more adiabatic beds and a quench gas colder than each
+    bed's inlet (the quench cools the gas to the next bed's inlet temperature, and bed
+    1's share is preheated from it)."""
+    beds, t_q = rate.bed_inlet_temperatures_c, rate.quench_temperature_c
+    if rate.between_beds == "cooling":
+        if t_q is not None:
+            raise CaseError(f"{path}.quench_temperature_c", "belongs to between_beds = "
+                            "'quench': delete it or set between_beds = \"quench\"")
+        return
+    if beds is None or len(beds) < 2:
+        raise CaseError(f"{path}.between_beds", "'quench' needs two or more adiabatic beds: "
+                        "give bed_inlet_temperatures_c, or delete between_beds")
+    if t_q is None:
+        raise CaseError(f"{path}.quench_temperature_c",
+                        "required when between_beds = 'quench': give the quench gas's "
+                        "temperature, below every bed's inlet temperature")
+    if not t_q < min(beds):
+        raise CaseError(f"{path}.quench_temperature_c",
+                        f"{t_q:g} degC must lie below every bed's inlet temperature (lowest "
+                        f"{min(beds):g} degC): the quench cools the gas to them")
 
 
 def _check_temkin_rate(base: str, r: ReactionSpec) -> None:

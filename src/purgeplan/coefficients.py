@@ -179,13 +179,17 @@ _BEDS: OrderedDict = OrderedDict()
 _BEDS_KEPT = 64
 
 
-def adiabatic_beds(loop: Loop, i: int, inlet_fractions: np.ndarray) -> reactor.AdiabaticBeds:
+def adiabatic_beds(loop: Loop, i: int, inlet_fractions: np.ndarray
+                   ) -> reactor.AdiabaticBeds | reactor.QuenchBeds:
     """The adiabatic beds of reaction i at reactor inlet mole fractions [-].
 
     The reaction enthalpy at 298.15 K from the components' formation
     enthalpies, their ideal-gas heat capacities, the rate of
     :func:`rate_function` and the equilibrium condition of
-    :func:`equilibrium_rhs`, all at the local temperature.
+    :func:`equilibrium_rhs`, all at the local temperature; cooled between beds
+    (:class:`purgeplan.physics.reactor.AdiabaticBeds`) or, with
+    ``rate.between_beds = "quench"``, quenched with cold feed gas at
+    ``rate.quench_temperature_c`` (:class:`purgeplan.physics.reactor.QuenchBeds`).
     """
     y0 = np.asarray(inlet_fractions, dtype=float)
     key = (id(loop), i, y0.tobytes())
@@ -200,7 +204,8 @@ def adiabatic_beds(loop: Loop, i: int, inlet_fractions: np.ndarray) -> reactor.A
     return beds
 
 
-def _new_beds(loop: Loop, i: int, inlet_fractions: np.ndarray) -> reactor.AdiabaticBeds:
+def _new_beds(loop: Loop, i: int, inlet_fractions: np.ndarray
+              ) -> reactor.AdiabaticBeds | reactor.QuenchBeds:
     r, comps = loop.reactions[i], loop.components
     nu = np.array([r.stoichiometry.get(c, 0.0) for c in comps])
     width = max(len(loop.data[c].cp_coefficients) for c in comps)
@@ -209,12 +214,15 @@ def _new_beds(loop: Loop, i: int, inlet_fractions: np.ndarray) -> reactor.Adiaba
     dh = 1000.0 * sum(v * loop.data[c].formation_enthalpy_kj_mol
                       for c, v in r.stoichiometry.items())
     p = loop.pressure_bar
-    return reactor.AdiabaticBeds(
+    beds = reactor.AdiabaticBeds(
         inlet_fractions=np.asarray(inlet_fractions, dtype=float), stoichiometry=nu,
         key=comps.index(r.key_reactant), cp_coefficients=cp, delta_h_298_j_mol=dh,
         inlet_temperatures_k=tuple(t + KELVIN for t in r.rate["bed_inlet_temperatures_c"]),
         rate=lambda y, t: rate_function(loop, i, t)(y),
         equilibrium_rhs=lambda t: equilibrium_rhs(r, t, p))
+    if r.rate.get("between_beds") == "quench":
+        return reactor.QuenchBeds(beds, r.rate["quench_temperature_c"] + KELVIN)
+    return beds
 
 
 def beds_at(loop: Loop, conversion: Mapping[int, float],

@@ -39,7 +39,8 @@ class Reaction:
     equilibrium reaction with a ``rate`` sizes its catalyst from the rate at
     its approach to equilibrium.  A ``rate`` with ``bed_inlet_temperatures_c``
     is adiabatic beds in series (:func:`purgeplan.coefficients.adiabatic_beds`),
-    else one isothermal bed at the reactor temperature.  ``equilibrium_method``
+    cooled or, with ``between_beds = "quench"``, quenched between them, else one
+    isothermal bed at the reactor temperature.  ``equilibrium_method``
     names how K(T) is found ("ammonia_gillespie_beattie" or "formation_data"),
     None without equilibrium data; ``equilibrium_rhs`` is the right-hand side
     ln K - dnu ln(P/P0) - sum nu ln phi - ln K_phi at the reactor's

@@ -197,14 +197,17 @@ def bed_table(loop: Loop, conversion: dict[int, float],
               flows: dict[str, dict[str, float]]) -> list[dict]:
     """Each adiabatic bed at a state: inlet and outlet temperature [degC], inlet, outlet
     and adiabatic equilibrium conversion of the key reactant counted from the converter
-    feed [-], and its catalyst [m3].  Empty without beds."""
+    feed [-], and its catalyst [m3]; in a quench converter also the share of the
+    converter feed joining at its inlet [-] (bed 1: the preheated gas, the others: the
+    quench gas).  Empty without beds."""
     beds = coefficients.beds_at(loop, conversion, flows["reactor_feed"])
     feed = sum(flows["reactor_feed"].values())
     return [{"inlet_temperature_c": b.inlet_temperature_k - KELVIN,
              "outlet_temperature_c": b.outlet_temperature_k - KELVIN,
              "inlet_conversion": b.inlet_conversion, "outlet_conversion": b.outlet_conversion,
              "equilibrium_conversion": b.equilibrium_conversion,
-             "catalyst_m3": b.volume_per_feed_m3_h_kmol * feed} for b in beds]
+             "catalyst_m3": b.volume_per_feed_m3_h_kmol * feed,
+             **({} if b.feed_share is None else {"feed_share": b.feed_share})} for b in beds]
 
 
 def costing(loop: Loop) -> tuple[list, dict[str, float]]:

@@ -1,6 +1,7 @@
 """Reactor sizing: a reversible first-order plug-flow relation, a catalyst bed
 integrated over a rate expression, isothermal or as adiabatic beds in series with
-cooling between them (:class:`AdiabaticBeds`).
+cooling between them (:class:`AdiabaticBeds`) or with cold feed gas injected between
+them (:class:`QuenchBeds`).
 
 Notes
 -----
@@ -17,6 +18,7 @@ and with this function, so that V = V_ref (F/F_ref) g(X, X_e) / g(X_ref, X_e,ref
 
 from __future__ import annotations
 
+import dataclasses
 import functools
 import math
 from collections.abc import Callable
@@ -147,6 +149,9 @@ class Bed:
     temperatures [K]; ``equilibrium_conversion`` is where the bed's adiabatic
     line meets the equilibrium curve; ``volume_per_feed_m3_h_kmol`` is the
     bed's catalyst per kmol/h of converter feed (0 for a bed not used).
+    ``feed_share`` is, in a quench converter (:class:`QuenchBeds`), the share of
+    the converter feed that joins the gas at the bed's inlet (bed 1: the
+    preheated gas; the others: the quench gas) [-], and None with cooling.
     """
 
     inlet_temperature_k: float
@@ -155,6 +160,7 @@ class Bed:
     outlet_conversion: float
     equilibrium_conversion: float
     volume_per_feed_m3_h_kmol: float
+    feed_share: float | None = None
 
 
 @dataclass(frozen=True)
@@ -163,7 +169,7 @@ class AdiabaticBeds:
 
     The converter's feed (mole fractions ``inlet_fractions``) passes bed 1,
     is cooled by an exchanger to the inlet temperature of bed 2, and so on;
-    no gas is added between beds (indirect cooling, not quench), so the
+    no gas is added between beds (indirect cooling; quench is :class:`QuenchBeds`), so the
     conversion X of the key reactant is counted from the converter feed
     throughout.  Per kmol of converter feed the moles at conversion X are
     n(X) = y0 + nu xi, xi = X y0_k / |nu_k|.
@@ -494,6 +500,257 @@ class AdiabaticBeds:
         """The largest per-pass conversion the beds approach: the largest last adiabatic
         equilibrium of the arrangements of :attr:`frames` [-]."""
         return float(max(frame[-1][1] for frame in self.frames))
+
+    def volume_per_feed_m3_h_kmol(self, conversion: float) -> float:
+        """Total catalyst of the beds per kmol/h of converter feed at conversion X [m3 h/kmol]."""
+        return sum(b.volume_per_feed_m3_h_kmol for b in self.split(conversion))
+
+
+# ---------------------------------------------------------------------------
+# adiabatic beds in series with cold feed gas injected between them (quench)
+
+#: Catalyst of a trial quench arrangement that misses the overall conversion: larger than
+#: any real one [m3 h/kmol], growing with the miss so that the search is led back.
+_MISSED = 1e6
+#: Largest advance of a bed towards its adiabatic equilibrium searched, u = -ln(1 - f) [-]:
+#: within 4e-18 of it.
+_U_MAX = 40.0
+
+
+@dataclass(frozen=True)
+class QuenchBeds:
+    """Adiabatic catalyst beds in series, cold converter feed injected between beds (quench).
+
+    Part of the converter feed, the share phi_1, is preheated and enters bed 1
+    at its set inlet temperature; the rest is kept at the quench temperature
+    T_q and injected between beds, after bed n the amount that brings the mix
+    of the bed's outlet gas and the quench gas to the set inlet temperature of
+    bed n + 1.  With every inlet temperature set, the shares follow from the
+    bed boundaries: phi_1 is what remains of the feed once the quench gas is
+    counted, so the quench never needs more than the feed (the last injection
+    is the feed that remains), and the arrangements that cannot be built are
+    those in which a bed's outlet is cooler than the next bed's set inlet
+    temperature (quench can only cool), and those that cannot reach the
+    overall conversion (below the conversion at the last quench point, or at
+    or beyond the last bed's adiabatic equilibrium): their catalyst is
+    infinite.
+
+    Conversion coordinate.  Within bed n the gas is the feed that has entered
+    so far, Phi_n kmol per kmol of converter feed (Phi_N = 1), of which the
+    key reactant's local conversion x counts from that gas: per kmol of it the
+    moles are y0 + nu xi, xi = x y0_k / |nu_k|, the coordinate of
+    :class:`AdiabaticBeds` (whose adiabats, rate and equilibrium are used as
+    they are, in ``gas``).  The conversion counted from the whole converter
+    feed is X = Phi_n x; quench gas of q kmol per kmol of gas leaving bed n
+    lowers the local conversion from x_n to x_n / (1 + q) and keeps X, so
+    Phi_{n+1} = Phi_n (1 + q_n).  The per-pass conversion is X at the
+    converter outlet, which is the last bed's local conversion.
+
+    Catalyst per kmol/h of converter feed: W = sum_n Phi_n (V/F)_n with
+    (V/F)_n the bed's catalyst per kmol/h of the gas through it
+    (:meth:`AdiabaticBeds.bed_volume_per_feed_m3_h_kmol`, the plug-flow design
+    equation along the adiabat).  The bed boundaries are chosen for least W at
+    each overall conversion by SciPy's minimisers (the quench shares of all
+    beds before a boundary change with it, so Levenspiel's rule for
+    interstage cooling does not carry over; Levenspiel, *Chemical Reaction
+    Engineering*, 3rd ed., Wiley 1999, ch. 9, treats cold-shot staging).
+
+    Parameters
+    ----------
+    gas : AdiabaticBeds
+        The converter feed, its adiabats, rate and equilibrium, and the bed
+        inlet temperatures [K] (two or more).
+    quench_temperature_k : float
+        Temperature of the quench gas [K], below every bed's inlet temperature.
+    """
+
+    gas: AdiabaticBeds
+    quench_temperature_k: float
+
+    def __post_init__(self):
+        t = self.gas.inlet_temperatures_k
+        if len(t) < 2:
+            raise ValueError("a quench converter has two or more beds")
+        if not self.quench_temperature_k < min(t):
+            raise ValueError(f"quench temperature {self.quench_temperature_k:.6g} K must lie "
+                             f"below every bed's inlet temperature (lowest {min(t):.6g} K)")
+
+    @property
+    def inlet_temperatures_k(self) -> tuple:
+        """Inlet temperature of each bed, in flow order [K]."""
+        return self.gas.inlet_temperatures_k
+
+    def quench_per_gas(self, conversion: float, outlet_temperature_k: float,
+                       inlet_temperature_k: float) -> float:
+        """Quench gas per kmol of gas leaving a bed, to mix to the next bed's inlet
+        temperature [kmol/kmol].
+
+        The enthalpy balance of the mixing point (adiabatic, no reaction):
+
+            sum_i n_i(x) int_{T_in}^{T_out} Cp_i dT = q sum_i y0_i int_{T_q}^{T_in} Cp_i dT,
+
+        the outlet gas at local conversion x and T_out cooled to the next
+        inlet temperature T_in by the quench gas (the converter feed, y0)
+        heated from T_q; ideal-gas heat capacities of
+        :mod:`purgeplan.physics.thermo`.  Negative where the outlet is cooler
+        than T_in.
+        """
+        g = self.gas
+        hot = g._gas_cp_plain(g._moles_plain(conversion))
+        cold = g._gas_cp_plain(g._moles_plain(0.0))
+        return (thermo.cp_enthalpy_integral_j_mol(hot, inlet_temperature_k, outlet_temperature_k)
+                / thermo.cp_enthalpy_integral_j_mol(cold, self.quench_temperature_k,
+                                                    inlet_temperature_k))
+
+    @functools.cached_property
+    def _first_equilibrium(self) -> float:
+        return self.gas.equilibrium_conversion(0.0, self.inlet_temperatures_k[0])
+
+    def _chain(self, advances) -> list[tuple] | None:
+        """The beds before the last for the advances u_n >= 0 of beds 1 to N - 1: per bed
+        (local inlet, adiabatic equilibrium and outlet conversion, outlet temperature,
+        quench per gas), and the last bed's local inlet and equilibrium conversion; None
+        where a bed cannot heat to the next inlet temperature.
+
+        Bed n leaves at x = x_lo + (1 - exp(-u_n)) (x_e - x_lo), x_lo the bed's inlet,
+        or where its adiabat reaches the next inlet temperature when that is hotter:
+        u = -ln(1 - (x - x_lo)/(x_e - x_lo)) resolves the approach to the bed's
+        equilibrium (u = inf) as the bed integral does.
+        """
+        g, temps = self.gas, self.inlet_temperatures_k
+        x_in, x_e, out = 0.0, self._first_equilibrium, []
+        for n, u in enumerate(advances):
+            t_n, t_next = temps[n], temps[n + 1]
+            x_lo = x_in if t_next <= t_n else g.conversion_on_adiabat(x_in, t_n, t_next)
+            if not x_lo < x_e:
+                return None
+            x = x_lo + -math.expm1(-max(float(u), 0.0)) * (x_e - x_lo)
+            t_out = float(g.temperature_k(x_in, t_n, x)[0]) if x > x_in else t_n
+            q = max(self.quench_per_gas(x, t_out, t_next), 0.0)
+            out.append((x_in, x_e, x, t_out, q))
+            x_in = x / (1.0 + q)
+            x_e = g.equilibrium_conversion(x_in, temps[n + 1])
+        return [*out, (x_in, x_e)]
+
+    def _total(self, advances, conversion: float) -> float:
+        """W of the advances at an overall conversion [m3 h/kmol]; ``_MISSED`` and more where
+        the arrangement cannot be built or cannot reach the conversion."""
+        chain = self._chain(advances)
+        if chain is None:
+            return 2.0 * _MISSED
+        (x_in, x_e), t_last = chain[-1], self.inlet_temperatures_k[-1]
+        if not x_in <= conversion < x_e:
+            return _MISSED * (1.0 + max(x_in - conversion, conversion - x_e))
+        share, total = 1.0, self.gas.bed_volume_per_feed_m3_h_kmol(x_in, t_last, conversion, x_e)
+        for n in range(len(chain) - 2, -1, -1):
+            x0, xe, x, _, q = chain[n]
+            share /= 1.0 + q
+            total += share * self.gas.bed_volume_per_feed_m3_h_kmol(
+                x0, self.inlet_temperatures_k[n], x, xe)
+        return total
+
+    def attainable_conversion(self) -> float:
+        """The largest per-pass conversion the beds approach, every bed run to its adiabatic
+        equilibrium: the last bed's adiabatic equilibrium then [-].
+
+        The overall conversion at a quench point, x / (1 + q(x)), grows with the
+        bed's outlet conversion x (the outlet's enthalpy above the feed's at its
+        own conversion stays positive), and a bed's adiabatic equilibrium grows
+        with its inlet conversion at a set inlet temperature (a cooler adiabat
+        meets the equilibrium curve of an exothermic reaction later); 0 where a
+        bed cannot heat to the next inlet temperature.
+        """
+        chain = self._chain([math.inf] * (len(self.inlet_temperatures_k) - 1))
+        return 0.0 if chain is None else float(chain[-1][1])
+
+    def least_conversion(self) -> float:
+        """The least per-pass conversion the beds can run at, every bed before the last as
+        short as it can be (not used, or just heating to the next inlet temperature): the
+        conversion at the last quench point [-]; below it the catalyst is infinite."""
+        chain = self._chain([0.0] * (len(self.inlet_temperatures_k) - 1))
+        return math.inf if chain is None else float(chain[-1][0])
+
+    def advances(self, conversion: float) -> tuple[float, ...] | None:
+        """The advances u_n of beds 1 to N - 1 (:meth:`_chain`) of least catalyst at an
+        overall conversion, None where no arrangement reaches it.
+
+        A coarse search first (every bed advanced alike, and with more than two
+        beds one bed at a time with the others not used), then SciPy's bounded
+        Brent method (two beds) or Nelder-Mead (more) from the best of them; the
+        least W, stationary in every boundary, is what :meth:`split` reports.
+        """
+        from scipy.optimize import minimize, minimize_scalar  # as in AdiabaticBeds
+
+        n = len(self.inlet_temperatures_k) - 1
+        grid = (0.0, 0.35, 0.9, 1.6, 2.3, 3.5, 5.0, 7.0, 10.0, 14.0, 19.0, 25.0)
+        # every bed advanced alike, and (more than two beds) one bed at a time, the others
+        # not used: the least catalyst may leave beds unused
+        starts = [(u,) * n for u in grid]
+        if n > 1:
+            starts += [tuple(u if m == k else 0.0 for m in range(n))
+                       for k in range(n) for u in grid[1:]]
+        values = [self._total(s, conversion) for s in starts]
+        j = int(np.argmin(values))
+        if values[j] >= _MISSED:
+            return None
+        if n == 1:
+            lo, hi = grid[max(j - 1, 0)], grid[j + 1] if j + 1 < len(grid) else _U_MAX
+            res = minimize_scalar(lambda u: self._total((u,), conversion), bounds=(lo, hi),
+                                  method="bounded", options={"xatol": 1e-10, "maxiter": 200})
+        else:
+            res = minimize(lambda u: self._total(u, conversion), np.array(starts[j]),
+                           method="Nelder-Mead", bounds=[(0.0, _U_MAX)] * n,
+                           options={"xatol": 1e-9, "fatol": 1e-16, "maxiter": 400 * n})
+        best = tuple(float(v) for v in np.atleast_1d(res.x))
+        return best if self._total(best, conversion) <= values[j] else starts[j]
+
+    @functools.cached_property
+    def _splits(self) -> dict:
+        """The splits found, by overall conversion (a state asks for its catalyst and for its
+        table of beds at the same conversion)."""
+        return {}
+
+    def split(self, conversion: float) -> list[Bed]:
+        """The beds at an overall per-pass conversion X, bed by bed in flow order, for the
+        advances of :meth:`advances`; conversions counted from the converter feed.
+
+        Where no arrangement reaches X, the beds every one run to their adiabatic
+        equilibrium (X at or beyond what they approach) or each the least (X below
+        what the quench leaves at the last bed's inlet), the last bed's catalyst
+        infinite.
+        """
+        key = float(conversion)
+        if key not in self._splits:
+            self._splits[key] = self._split(key)
+        return list(self._splits[key])
+
+    def _split(self, conversion: float) -> list[Bed]:
+        f = self.advances(conversion)
+        reached = f is not None
+        if not reached:
+            f = (math.inf if conversion >= self.attainable_conversion() else 0.0,) * (
+                len(self.inlet_temperatures_k) - 1)
+        chain = self._chain(f)
+        temps = self.inlet_temperatures_k
+        if chain is None:   # bed n cannot heat to the next inlet: nothing reaches any X
+            return [Bed(t, t, 0.0, 0.0, 0.0, math.inf if n == len(temps) - 1 else 0.0,
+                        1.0 if n == 0 else 0.0) for n, t in enumerate(temps)]
+        x_in, x_e = chain[-1]
+        last = (self.gas.bed_volume_per_feed_m3_h_kmol(x_in, temps[-1], conversion, x_e)
+                if reached else math.inf)
+        x_out = min(max(conversion, x_in), x_e)
+        t_out = (float(self.gas.temperature_k(x_in, temps[-1], x_out)[0]) if x_out > x_in
+                 else temps[-1])
+        beds = [Bed(temps[-1], t_out, x_in, conversion, x_e, last, None)]
+        share = 1.0
+        for n in range(len(chain) - 2, -1, -1):
+            x0, xe, x, t, q = chain[n]
+            beds[0] = dataclasses.replace(beds[0], feed_share=share * q / (1.0 + q))
+            share /= 1.0 + q
+            volume = share * self.gas.bed_volume_per_feed_m3_h_kmol(x0, temps[n], x, xe)
+            beds.insert(0, Bed(temps[n], t, share * x0, share * x, share * xe, volume, None))
+        beds[0] = dataclasses.replace(beds[0], feed_share=share)
+        return beds
 
     def volume_per_feed_m3_h_kmol(self, conversion: float) -> float:
         """Total catalyst of the beds per kmol/h of converter feed at conversion X [m3 h/kmol]."""
