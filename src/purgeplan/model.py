@@ -21,6 +21,8 @@ solution), with ``capital="exact"`` as the capacity-scaling power law.
 
 from __future__ import annotations
 
+from collections.abc import Callable
+
 import pyomo.environ as pyo
 
 from . import costs, equations, limits
@@ -138,8 +140,8 @@ def add_costs(m: pyo.ConcreteModel, loop: Loop, q: dict, capital: str) -> None:
     m.tac = pyo.Objective(expr=sum(m.cost[k] for k in m.COST), sense=pyo.minimize)
 
 
-def build_model(loop: Loop, capital: str = "tangent", design: str = "fixed"
-                ) -> pyo.ConcreteModel:
+def build_model(loop: Loop, capital: str = "tangent", design: str = "fixed",
+                exact_coefficients: Callable | None = None) -> pyo.ConcreteModel:
     """The Pyomo model of one alternative with the design variables fixed.
 
     Parameters
@@ -150,6 +152,13 @@ def build_model(loop: Loop, capital: str = "tangent", design: str = "fixed"
     design : {"fixed", "free"}
         Purge fraction and conversions as mutable parameters, or as variables
         (the purge fraction bounded by the case, fixed until unfixed).
+    exact_coefficients : callable, optional
+        For a global solver's check: ``f(m, v)`` of the model and its
+        :class:`~purgeplan.equations.LoopVariables`, returning Pyomo
+        expressions of the state for any of ``"recycle_work_kj_kmol"`` and
+        ``"catalyst_volume_per_feed_m3_h_kmol"`` (it may add the variables
+        and constraints they need to ``m``), used in place of the parameters
+        the solve layer holds.
     """
     m = pyo.ConcreteModel(name=loop.name)
     pairs = [(s, c) for s in loop.streams for c in loop.components]
@@ -184,7 +193,10 @@ def build_model(loop: Loop, capital: str = "tangent", design: str = "fixed"
                       purge_fraction=m.purge_fraction, conversion=m.conversion,
                       liquid_share=share, held_vapour_per_liquid=held)
     add_loop_equations(m, loop, v)
-    q = quantities(v, loop, m.recycle_work_kj_kmol, m.catalyst_volume_per_feed_m3_h_kmol,
+    exact = exact_coefficients(m, v) if exact_coefficients is not None else {}
+    q = quantities(v, loop, exact.get("recycle_work_kj_kmol", m.recycle_work_kj_kmol),
+                   exact.get("catalyst_volume_per_feed_m3_h_kmol",
+                             m.catalyst_volume_per_feed_m3_h_kmol),
                    fuel_split=add_fuel_sink(m, loop, v),
                    water_condensing=add_water_cooler(m, loop))
     for key in ("recycle_compressor_power_kw", "makeup_compressor_power_kw", "catalyst_volume_m3",

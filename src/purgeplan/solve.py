@@ -18,6 +18,7 @@ from __future__ import annotations
 import logging
 import math
 import time
+from collections.abc import Callable
 from dataclasses import dataclass, field
 
 from scipy.optimize import brentq
@@ -389,14 +390,17 @@ def likely_cause(loop: Loop) -> str:
     return ""
 
 
-def solve_exact_with(loop: Loop, solver_name: str = "scip_direct", **options):
+def solve_exact_with(loop: Loop, solver_name: str = "scip_direct",
+                     exact_coefficients: Callable | None = None, **options):
     """The same model with the purge fraction free and exact capital, for a global solver.
 
-    Used by the tests to check the reduced-space answer; returns (a, TAC, results).
-    The recycle work and volume coefficients (and a fuel sink's kmol per GJ,
-    whether the product condenses in the water cooler, a phase-equilibrium
-    separator's liquid shares) are taken converged from the reduced-space
-    solution at the same alternative's optimum.
+    Used by the tests to check the reduced-space answer; returns (a, TAC,
+    results, the reduced-space optimum).  The recycle work and volume
+    coefficients (and a fuel sink's kmol per GJ, whether the product
+    condenses in the water cooler, a phase-equilibrium separator's liquid
+    shares) are taken converged from the reduced-space solution at the same
+    alternative's optimum, except those ``exact_coefficients`` states as
+    expressions of the model (see :func:`purgeplan.model.build_model`).
     """
     import pyomo.environ as pyo
 
@@ -406,7 +410,7 @@ def solve_exact_with(loop: Loop, solver_name: str = "scip_direct", **options):
     opt = optimise(loop)
     if not opt.feasible:
         raise InfeasibleError(opt.message)
-    m = build_model(loop, capital="exact", design="free")
+    m = build_model(loop, capital="exact", design="free", exact_coefficients=exact_coefficients)
     m.recycle_work_kj_kmol = opt.state.recycle_work_kj_kmol
     m.catalyst_volume_per_feed_m3_h_kmol = opt.state.catalyst_volume_per_feed_m3_h_kmol
     if loop.fuel_capacity_gj_h is not None:  # the purge gas's kmol per GJ at the optimum
