@@ -241,7 +241,7 @@ def _pyomo_bed_volume_per_feed(loop, m, v, points=GLOBAL_CHECK_POINTS):
     m.inverse_rate = pyo.Var(range(points), bounds=(0.0, None), initialize=1e-3)
     m.inverse_rate_def = pyo.ConstraintList()
     x_out = v.conversion[0]
-    for node in nodes:
+    for j, node in enumerate(nodes):
         xi = m.y_in["N2"] * x_out * (node + 1.0) / 2.0       # extent per kmol of feed
         per = 1.0 - 2.0 * xi
         a_n2 = phi["N2"] * p_atm * (m.y_in["N2"] - xi) / per
@@ -251,7 +251,7 @@ def _pyomo_bed_volume_per_feed(loop, m, v, points=GLOBAL_CHECK_POINTS):
         c = y_nh3 / (2.0 * n2_ref * (1.0 + y_nh3))
         eta = b[0] + b[1] * t + b[3] * t * t + b[5] * t**3 + c * (b[2] + c * (b[4] + c * b[6]))
         rate = eta * k * (ka * ka * a_n2 * a_h2**1.5 / a_nh3 - a_nh3 / a_h2**1.5) / 2.0
-        m.inverse_rate_def.add(m.inverse_rate[len(m.inverse_rate_def)] * rate == 1.0)
+        m.inverse_rate_def.add(m.inverse_rate[j] * rate == 1.0)
     return m.y_in["N2"] * x_out / 2.0 * sum(
         wj * m.inverse_rate[j] for j, wj in enumerate(weights))
 

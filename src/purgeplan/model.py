@@ -194,6 +194,9 @@ def build_model(loop: Loop, capital: str = "tangent", design: str = "fixed",
                       liquid_share=share, held_vapour_per_liquid=held)
     add_loop_equations(m, loop, v)
     exact = exact_coefficients(m, v) if exact_coefficients is not None else {}
+    unknown = set(exact) - {"recycle_work_kj_kmol", "catalyst_volume_per_feed_m3_h_kmol"}
+    if unknown:
+        raise ValueError(f"exact_coefficients gave {sorted(unknown)}: not coefficients here")
     q = quantities(v, loop, exact.get("recycle_work_kj_kmol", m.recycle_work_kj_kmol),
                    exact.get("catalyst_volume_per_feed_m3_h_kmol",
                              m.catalyst_volume_per_feed_m3_h_kmol),
